@@ -1,0 +1,27 @@
+# The two set-up commands. Both create .venv and install what they need; nothing else has to be started.
+PYTHON ?= python3
+VENV := .venv
+PY := $(VENV)/bin/python
+STAMP := $(VENV)/.installed
+
+.PHONY: demo test
+
+$(STAMP): pyproject.toml
+	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
+	$(PY) -m pip install --quiet --upgrade pip
+	$(PY) -m pip install --quiet -e '.[test]'
+	@touch $(STAMP)
+
+demo: $(STAMP)
+	$(PY) -m stimlab.demo
+
+test: $(STAMP)
+	@if [ ! -x /usr/bin/chromium ]; then \
+	  if [ "$$(id -u)" = 0 ]; then \
+	    echo "installing Debian's chromium for the browser tests"; \
+	    apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium >/dev/null; \
+	  else \
+	    echo "/usr/bin/chromium is missing: run 'sudo apt-get install chromium' (browser tests need it)"; exit 1; \
+	  fi; \
+	fi
+	$(PY) -m pytest

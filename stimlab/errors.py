@@ -1,0 +1,55 @@
+"""The one error type that stimlab raises for bad input from a person: a file, a form, an option.
+
+Colour maths raises plain :class:`ValueError` naming the argument and its range; readers of files and the
+protocol compiler raise :class:`InputError`, which also knows *where* the problem is (file, row, column or JSON
+path) so that the command line, the web pages and the API can all say it in one line.
+"""
+
+from __future__ import annotations
+
+
+class InputError(ValueError):
+    """Bad input, with where it is and how to fix it.
+
+    Parameters
+    ----------
+    message
+        What is wrong and what to do, in plain words.
+    file
+        The file it came from, if any.
+    row
+        1-based row of a CSV file (the header is row 1), if any.
+    field
+        Column name, option name or JSON path (``stimuli[2].colour.dkl[1]``), if any.
+    """
+
+    def __init__(self, message: str, *, file: str | None = None, row: int | None = None,
+                 field: str | None = None):
+        super().__init__(message)
+        self.message = message
+        self.file = file
+        self.row = row
+        self.field = field
+
+    def where(self) -> str:
+        """The location as one short phrase, e.g. ``"spectra.csv row 7, column 'red'"``."""
+        parts = []
+        if self.file:
+            parts.append(str(self.file))
+        if self.row is not None:
+            parts.append(f"row {self.row}")
+        if self.field:
+            parts.append(f"column '{self.field}'" if self.row is not None else f"'{self.field}'")
+        if not parts:
+            return ""
+        head = parts[0]
+        rest = ", ".join(parts[1:])
+        return f"{head} {rest}".strip() if self.file else ", ".join(parts)
+
+    def __str__(self) -> str:
+        where = self.where()
+        return f"{where}: {self.message}" if where else self.message
+
+    def as_dict(self) -> dict:
+        """JSON-able form used by the API's error shape."""
+        return {"message": self.message, "file": self.file, "row": self.row, "field": self.field}

@@ -1,0 +1,69 @@
+"""How far a direction can go from a background before it leaves the display's RGB cube.
+
+For a background ``RGB_0`` inside the cube and a direction ``ΔRGB``, the largest ``t ≥ 0`` with
+``0 ≤ RGB_0 + t·ΔRGB ≤ 1`` is the smallest, over channels, of ``(1 − RGB_0)/ΔRGB`` where ``ΔRGB > 0`` and
+``RGB_0/|ΔRGB|`` where ``ΔRGB < 0``: exact, no search.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = ["scale_limit", "max_scale_in_gamut", "DKL_axis_limits"]
+
+
+def scale_limit(RGB_0, delta_RGB) -> tuple[np.ndarray, np.ndarray]:
+    """Largest scale of ``delta_RGB`` from ``RGB_0`` that stays in the cube, and the channel that stops it.
+
+    Parameters
+    ----------
+    RGB_0
+        Background linear RGB, shape (3,), inside 0..1.
+    delta_RGB
+        Directions, shape (..., 3).
+
+    Returns
+    -------
+    scale : ndarray (...,)
+        ``inf`` for a zero direction.
+    channel : ndarray (...,) of int
+        0, 1, 2 for red, green, blue (−1 for a zero direction).
+
+    Examples
+    --------
+    >>> scale, channel = scale_limit([0.5, 0.5, 0.5], [0.25, -0.1, 0.0])
+    >>> float(scale), int(channel)
+    (2.0, 0)
+    """
+    RGB_0 = np.asarray(RGB_0, dtype=float)
+    delta = np.asarray(delta_RGB, dtype=float)
+    if not np.all(np.isfinite(delta)):
+        raise ValueError("direction contains NaN or infinity")
+    with np.errstate(divide="ignore", invalid="ignore"):
+        room = np.where(delta > 0, (1.0 - RGB_0) / delta, np.where(delta < 0, -RGB_0 / delta, np.inf))
+    room = np.clip(room, 0.0, None)
+    channel = np.argmin(room, axis=-1)
+    scale = np.take_along_axis(room, channel[..., None], axis=-1)[..., 0]
+    return scale, np.where(np.isinf(scale), -1, channel)
+
+
+def max_scale_in_gamut(model, RGB_0, delta_LMS) -> np.ndarray:
+    """Largest scale of a cone-excitation change ``delta_LMS`` from background ``RGB_0`` on ``model``'s display.
+
+    A stimulus is in gamut exactly when this is ≥ 1 for its own ``delta_LMS``.
+    """
+    delta_RGB = np.asarray(delta_LMS, dtype=float) @ model.M_LMS_inverse.T
+    return scale_limit(RGB_0, delta_RGB)[0]
+
+
+def DKL_axis_limits(model, RGB_0, D) -> np.ndarray:
+    """Gamut limits along each DKL axis, in units of ``D``'s columns.
+
+    Returns
+    -------
+    ndarray (3, 2)
+        Rows lum, L−M, S; columns: the limit in the negative direction (≤ 0) and in the positive one (≥ 0).
+    """
+    positive = max_scale_in_gamut(model, RGB_0, D.T)
+    negative = max_scale_in_gamut(model, RGB_0, -D.T)
+    return np.stack([-negative, positive], axis=-1)

@@ -1,0 +1,48 @@
+"""Shared fixtures: the demo display, a display with the sRGB primaries, and the Brainard (1997) CRT."""
+
+import numpy as np
+import pytest
+
+from stimlab._colour import colour
+from stimlab.demo_data import demo_profile
+from stimlab.display import DisplayModel
+from stimlab.profile import build_profile, transfer_entry
+from stimlab.transfer import sRGB_decode
+
+# IEC 61966-2-1: primaries and D65 white chromaticities of sRGB.
+SRGB_XY = {"red": (0.64, 0.33), "green": (0.30, 0.60), "blue": (0.15, 0.06)}
+D65_XY = (0.3127, 0.3290)
+
+
+def power_transfer(bits=8, gamma=2.2, peak=30.0):
+    levels = np.unique(np.r_[np.arange(0, 2**bits, 2**bits // 16), 2**bits - 1]).astype(float)
+    return {c: transfer_entry(levels, peak * (levels / levels[-1]) ** gamma, bits) for c in ("red", "green", "blue")}
+
+
+@pytest.fixture(scope="session")
+def demo():
+    """The demo display's profile (built from the shipped CSVs)."""
+    return demo_profile()
+
+
+@pytest.fixture(scope="session")
+def demo_model(demo):
+    return DisplayModel(demo, "ss2")
+
+
+@pytest.fixture(scope="session")
+def srgb_profile():
+    """A display with the sRGB primaries and white (white Y = 80 cd/m², IEC 61966-2-1's reference luminance),
+    the sRGB curve sampled at 18 levels as a table."""
+    levels = np.unique(np.r_[np.linspace(0, 255, 18).round(), 255])
+    transfer = {c: transfer_entry(levels, 80 * sRGB_decode(levels), 8, "table") for c in SRGB_XY}
+    return build_profile("sRGB reference", transfer=transfer,
+                         chromaticities={**SRGB_XY, "white": (*D65_XY, 80.0)})
+
+
+@pytest.fixture(scope="session")
+def crt_profile():
+    """colour-science's 'Typical CRT Brainard 1997' primaries as a measured display."""
+    msds = colour.characterisation.MSDS_DISPLAY_PRIMARIES["Typical CRT Brainard 1997"]
+    return build_profile("Typical CRT Brainard 1997", transfer=power_transfer(),
+                         spectra=(msds.wavelengths, msds.values, None))

@@ -1,0 +1,127 @@
+"""The command line for displays and conversion: the JSON contract, and every bad-input path exits 2 naming
+the file, row and column."""
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from stimlab.cli import main
+from stimlab.demo_data import demo_file
+
+SPECTRA = demo_file("vale_street_b12_spectra.csv")
+TRANSFER = demo_file("vale_street_b12_transfer.csv")
+
+
+@pytest.fixture
+def files(tmp_path):
+    (tmp_path / "spectra.csv").write_text(SPECTRA)
+    (tmp_path / "transfer.csv").write_text(TRANSFER)
+    return tmp_path
+
+
+def build(files, *extra, spectra="spectra.csv", transfer="transfer.csv"):
+    return main(["display", "build", "--spectra", str(files / spectra), "--transfer", str(files / transfer),
+                 "--name", "Test LCD", "--size-cm", "53.1,29.9", "--size-px", "1920,1080",
+                 "-o", str(files / "profile.json"), *extra])
+
+
+def test_build_show_convert(files, capsys):
+    assert build(files) == 0
+    out = capsys.readouterr().out
+    assert "wrote" in out and "gog fit" in out
+    assert main(["display", "show", str(files / "profile.json")]) == 0
+    out = capsys.readouterr().out
+    assert "primaries (CIE 1931 xy)" in out and "L-M" in out and "one digital level" in out
+    assert main(["convert", "--display", str(files / "profile.json"), "--dkl", "0,0.05,0", "--json"]) == 0
+    result = json.loads(capsys.readouterr().out)
+    for key, size in [("rgb_linear", 3), ("rgb_device", 3), ("lms", 3), ("cone_contrast", 3), ("dkl", 3),
+                      ("macleod_boynton", 2), ("quantisation_cone_contrast", 3)]:
+        assert len(result[key]) == size, key
+    assert all(isinstance(v, int) for v in result["rgb_device"])
+    assert result["dkl"] == pytest.approx([0, 0.05, 0], abs=1e-12)
+    assert result["in_gamut"] is True
+    assert result["max_scale_in_gamut"] > 1
+    profile = json.loads((files / "profile.json").read_text())
+    assert result["display_hash"] == profile["sha256"]
+    assert isinstance(result["luminance_cd_m2"], float)
+
+
+def test_out_of_gamut_conversion_gives_no_device_values(files, capsys):
+    build(files)
+    capsys.readouterr()
+    assert main(["convert", "--display", str(files / "profile.json"), "--cone-contrast", "0.5,0,0"]) == 0
+    out = capsys.readouterr().out
+    assert "OUT OF GAMUT" in out and "not clipped" in out
+    main(["convert", "--display", str(files / "profile.json"), "--cone-contrast", "0.5,0,0", "--json"])
+    result = json.loads(capsys.readouterr().out)
+    assert result["in_gamut"] is False and result["rgb_device"] is None
+    assert result["out_of_gamut"]["red"] > 0
+    assert result["max_scale_in_gamut"] < 1
+
+
+def _error(capsys):
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1, err
+    return err[0]
+
+
+def edit(files, name, text):
+    (files / name).write_text(text)
+
+
+@pytest.mark.parametrize("name, text, expected", [
+    ("spectra.csv", SPECTRA.replace("wavelength_nm,red,green,blue,black", "wavelength_nm,red,green,black"),
+     "row 1: missing column(s) blue"),
+    ("spectra.csv", SPECTRA.replace("wavelength_nm,red,green,blue,black", "wavelength_nm,red,green,blue,black,uv"),
+     "unexpected column(s) 'uv'"),
+    ("spectra.csv", SPECTRA.replace("\n420,", "\n420,x", 1), "row 22, column 'red': 'x"),
+    ("spectra.csv", SPECTRA.replace("\n500,", "\n500,-", 1), "row 62, column 'red': negative value"),
+    ("spectra.csv", "\n".join(l for l in SPECTRA.splitlines() if not l.startswith("39") and
+                              not l.startswith("38")), "must cover at least 390–780 nm"),
+    ("transfer.csv", TRANSFER.replace("red,128,", "red,128.5,"), "column 'level': level '128.5'"),
+    ("transfer.csv", TRANSFER.replace("luminance_cd_m2", "luminance"), "missing column(s) luminance_cd_m2"),
+    ("transfer.csv", TRANSFER.replace("green,160,", "green,160,1", 1), "transfer data must be monotone"),
+    ("transfer.csv", TRANSFER.replace("blue,64,", "blue,64,many", 1), "row 40, column 'luminance_cd_m2': 'many"),
+    ("transfer.csv", TRANSFER.replace("red,0,", "cyan,0,", 1), "unknown channel 'cyan'"),
+])
+def test_bad_files_exit_2_naming_file_row_and_column(files, capsys, name, text, expected):
+    edit(files, name, text)
+    assert build(files) == 2
+    message = _error(capsys)
+    assert name in message and expected in message
+
+
+def test_missing_file_and_bad_options(files, capsys):
+    assert build(files, transfer="nope.csv") == 2
+    assert "nope.csv: file not found" in _error(capsys)
+    build(files)
+    capsys.readouterr()
+    assert main(["convert", "--display", str(files / "profile.json"), "--background", "1.2,0.5,0.5",
+                 "--dkl", "0,0,0"]) == 2
+    assert "'--background'" in (message := _error(capsys)) and "outside the display gamut" in message
+    with pytest.raises(SystemExit) as exit_:
+        main(["convert", "--display", str(files / "profile.json"), "--dkl", "0,zero,0"])
+    assert exit_.value.code == 2
+    assert "--dkl" in capsys.readouterr().err
+
+
+def test_no_traceback_from_the_installed_command(files):
+    edit(files, "transfer.csv", TRANSFER.replace("red,0,", "red,0,oops", 1))
+    run = subprocess.run([sys.executable, "-m", "stimlab.cli", "display", "build", "--spectra",
+                          str(files / "spectra.csv"), "--transfer", str(files / "transfer.csv"), "--name", "x",
+                          "-o", str(files / "p.json")], capture_output=True, text=True)
+    assert run.returncode == 2
+    assert "Traceback" not in run.stderr
+    assert "row 2, column 'luminance_cd_m2': 'oops0.3500' is not a number" in run.stderr
+
+
+def test_primaries_from_xyY(files, capsys):
+    assert main(["display", "build", "--primaries-xyY", "0.64,0.33,17;0.30,0.60,57.2;0.15,0.06,5.8",
+                 "--transfer", str(files / "transfer.csv"), "--name", "Colorimeter only",
+                 "-o", str(files / "xyY.json")]) == 0
+    assert "approximate" in capsys.readouterr().out
+    main(["convert", "--display", str(files / "xyY.json"), "--dkl", "0,0.02,0"])
+    assert "approximation" in capsys.readouterr().out
