@@ -13,6 +13,7 @@ import numpy as np
 from ._colour import colour
 from .measurements import CHANNELS
 from .observers import K_M, Observer, observer as standard_observer
+from .spaces import as_triplets
 from .transfer import transfer_from_dict
 
 __all__ = ["DisplayModel", "XYZ_to_LMS_matrix", "resample"]
@@ -102,15 +103,15 @@ class DisplayModel:
     # Linear RGB <-> cone excitations and CIE XYZ ------------------------------------------------------------
     def RGB_linear_to_LMS(self, RGB) -> np.ndarray:
         """Cone excitations of linear RGB, shape (..., 3)."""
-        return _finite(RGB, "RGB") @ self.M_LMS.T + self.LMS_black
+        return as_triplets(RGB, "RGB") @ self.M_LMS.T + self.LMS_black
 
     def LMS_to_RGB_linear(self, LMS) -> np.ndarray:
         """Linear RGB that produces the cone excitations ``LMS`` (may lie outside 0..1)."""
-        return (_finite(LMS, "LMS") - self.LMS_black) @ self.M_LMS_inverse.T
+        return (as_triplets(LMS, "LMS") - self.LMS_black) @ self.M_LMS_inverse.T
 
     def RGB_linear_to_XYZ(self, RGB) -> np.ndarray:
         """CIE 1931 XYZ of linear RGB, Y in cd/m²."""
-        return _finite(RGB, "RGB") @ self.M_XYZ.T + self.XYZ_black
+        return as_triplets(RGB, "RGB") @ self.M_XYZ.T + self.XYZ_black
 
     def RGB_linear_to_luminance(self, RGB) -> np.ndarray:
         """Luminance in cd/m² under the observer's V(λ)."""
@@ -131,11 +132,3 @@ class DisplayModel:
         """CIE 1931 xy chromaticity of each primary (rows red, green, blue)."""
         return np.array([colour.XYZ_to_xy(self.M_XYZ[:, i]) for i in range(3)])
 
-
-def _finite(values, name: str) -> np.ndarray:
-    values = np.asarray(values, dtype=float)
-    if values.shape[-1:] != (3,):
-        raise ValueError(f"{name} must have shape (..., 3), got {values.shape}")
-    if not np.all(np.isfinite(values)):
-        raise ValueError(f"{name} contains NaN or infinity")
-    return values

@@ -18,6 +18,7 @@ from __future__ import annotations
 import numpy as np
 
 __all__ = [
+    "as_triplets",
     "DKL_NORMALISATIONS",
     "LMS_to_cone_contrast",
     "cone_contrast_to_LMS",
@@ -33,7 +34,8 @@ DKL_NORMALISATIONS = ("pooled_cone_contrast", "display_maximum")
 """DKL normalisations: Brainard's unit pooled cone contrast, or 1 = the display's limit along each axis."""
 
 
-def _array(values, name: str) -> np.ndarray:
+def as_triplets(values, name: str) -> np.ndarray:
+    """``values`` as a float array of shape (..., 3), refusing NaN and infinity with ``name`` in the message."""
     values = np.asarray(values, dtype=float)
     if values.shape[-1:] != (3,):
         raise ValueError(f"{name} must have shape (..., 3), got {values.shape}")
@@ -43,7 +45,7 @@ def _array(values, name: str) -> np.ndarray:
 
 
 def _background(LMS_0) -> np.ndarray:
-    LMS_0 = _array(LMS_0, "LMS_0")
+    LMS_0 = as_triplets(LMS_0, "LMS_0")
     if LMS_0.ndim != 1:
         raise ValueError(f"LMS_0 must be one background of shape (3,), got {LMS_0.shape}")
     if np.any(LMS_0 <= 0):
@@ -67,13 +69,13 @@ def LMS_to_cone_contrast(LMS, LMS_0) -> np.ndarray:
     [0.1, -0.1, 1.0]
     """
     LMS_0 = _background(LMS_0)
-    return (_array(LMS, "LMS") - LMS_0) / LMS_0
+    return (as_triplets(LMS, "LMS") - LMS_0) / LMS_0
 
 
 def cone_contrast_to_LMS(contrast, LMS_0) -> np.ndarray:
     """Cone excitations from cone contrast, ``LMS_0 · (1 + c)``."""
     LMS_0 = _background(LMS_0)
-    return LMS_0 * (1.0 + _array(contrast, "cone contrast"))
+    return LMS_0 * (1.0 + as_triplets(contrast, "cone contrast"))
 
 
 def matrix_DKL_directions(LMS_0, w_L: float, w_M: float, limits=None) -> np.ndarray:
@@ -138,14 +140,14 @@ def LMS_to_DKL(LMS, LMS_0, w_L: float, w_M: float, limits=None) -> np.ndarray:
     """
     LMS_0 = _background(LMS_0)
     R = matrix_DKL_mechanisms(LMS_0, w_L, w_M, limits)
-    return (_array(LMS, "LMS") - LMS_0) @ R.T
+    return (as_triplets(LMS, "LMS") - LMS_0) @ R.T
 
 
 def DKL_to_LMS(DKL, LMS_0, w_L: float, w_M: float, limits=None) -> np.ndarray:
     """Cone excitations of DKL coordinates ``(lum, lm, s)`` relative to the background."""
     LMS_0 = _background(LMS_0)
     D = matrix_DKL_directions(LMS_0, w_L, w_M, limits)
-    return LMS_0 + _array(DKL, "DKL") @ D.T
+    return LMS_0 + as_triplets(DKL, "DKL") @ D.T
 
 
 def LMS_to_MacLeod_Boynton(LMS, w_L: float, w_M: float, k_S: float) -> np.ndarray:
@@ -158,7 +160,7 @@ def LMS_to_MacLeod_Boynton(LMS, w_L: float, w_M: float, k_S: float) -> np.ndarra
     >>> np.round(LMS_to_MacLeod_Boynton([10.0, 5.0, 0.5], 0.68990272, 0.34832189, 0.0371598), 6).tolist()
     [0.79844, 0.00215, 8.640637]
     """
-    LMS = _array(LMS, "LMS")
+    LMS = as_triplets(LMS, "LMS")
     V = w_L * LMS[..., 0] + w_M * LMS[..., 1]
     if np.any(V <= 0):
         raise ValueError("MacLeod–Boynton chromaticity is undefined at zero luminance")
@@ -167,7 +169,7 @@ def LMS_to_MacLeod_Boynton(LMS, w_L: float, w_M: float, k_S: float) -> np.ndarra
 
 def MacLeod_Boynton_to_LMS(lsV, w_L: float, w_M: float, k_S: float) -> np.ndarray:
     """Cone excitations from MacLeod–Boynton ``(l, s, luminance)``."""
-    lsV = _array(lsV, "MacLeod–Boynton (l, s, luminance)")
+    lsV = as_triplets(lsV, "MacLeod–Boynton (l, s, luminance)")
     l, s, V = lsV[..., 0], lsV[..., 1], lsV[..., 2]
     if np.any(V <= 0):
         raise ValueError("MacLeod–Boynton luminance must be positive")

@@ -75,40 +75,31 @@ class Background:
         return cls.from_LMS(model, LMS, field)
 
     # -- colours --------------------------------------------------------------------------------------------
+    def _conversions(self, space: str):
+        """``(to_LMS, from_LMS)`` for ``space``."""
+        obs = self.model.observer
+        w, LMS_0, maximum = (obs.w_L, obs.w_M), self.LMS_0, self.DKL_limits[:, 1]
+        table = {
+            "cone_contrast": (lambda v: cone_contrast_to_LMS(v, LMS_0), lambda v: LMS_to_cone_contrast(v, LMS_0)),
+            "dkl": (lambda v: DKL_to_LMS(v, LMS_0, *w), lambda v: LMS_to_DKL(v, LMS_0, *w)),
+            "dkl_display_maximum": (lambda v: DKL_to_LMS(v, LMS_0, *w, limits=maximum),
+                                    lambda v: LMS_to_DKL(v, LMS_0, *w, limits=maximum)),
+            "macleod_boynton": (lambda v: MacLeod_Boynton_to_LMS(v, *w, obs.k_S),
+                                lambda v: LMS_to_MacLeod_Boynton(v, *w, obs.k_S)),
+            "lms": (lambda v: np.asarray(v, dtype=float), lambda v: np.asarray(v, dtype=float)),
+            "rgb_linear": (self.model.RGB_linear_to_LMS, self.model.LMS_to_RGB_linear),
+        }
+        if space not in table:
+            raise ValueError(f"unknown colour space {space!r}; choose one of: {', '.join(COLOUR_SPACES)}")
+        return table[space]
+
     def colour_to_LMS(self, space: str, values) -> np.ndarray:
         """Cone excitations of a colour given in ``space`` (one of :data:`COLOUR_SPACES`), shape (..., 3)."""
-        obs = self.model.observer
-        values = np.asarray(values, dtype=float)
-        if space == "cone_contrast":
-            return cone_contrast_to_LMS(values, self.LMS_0)
-        if space == "dkl":
-            return DKL_to_LMS(values, self.LMS_0, obs.w_L, obs.w_M)
-        if space == "dkl_display_maximum":
-            return DKL_to_LMS(values, self.LMS_0, obs.w_L, obs.w_M, limits=self.DKL_limits[:, 1])
-        if space == "macleod_boynton":
-            return MacLeod_Boynton_to_LMS(values, obs.w_L, obs.w_M, obs.k_S)
-        if space == "lms":
-            return values
-        if space == "rgb_linear":
-            return self.model.RGB_linear_to_LMS(values)
-        raise ValueError(f"unknown colour space {space!r}; choose one of: {', '.join(COLOUR_SPACES)}")
+        return self._conversions(space)[0](values)
 
     def LMS_to_space(self, space: str, LMS) -> np.ndarray:
         """A colour's coordinates in ``space``, the inverse of :meth:`colour_to_LMS`."""
-        obs = self.model.observer
-        if space == "cone_contrast":
-            return LMS_to_cone_contrast(LMS, self.LMS_0)
-        if space == "dkl":
-            return LMS_to_DKL(LMS, self.LMS_0, obs.w_L, obs.w_M)
-        if space == "dkl_display_maximum":
-            return LMS_to_DKL(LMS, self.LMS_0, obs.w_L, obs.w_M, limits=self.DKL_limits[:, 1])
-        if space == "macleod_boynton":
-            return LMS_to_MacLeod_Boynton(LMS, obs.w_L, obs.w_M, obs.k_S)
-        if space == "lms":
-            return np.asarray(LMS, dtype=float)
-        if space == "rgb_linear":
-            return self.model.LMS_to_RGB_linear(LMS)
-        raise ValueError(f"unknown colour space {space!r}; choose one of: {', '.join(COLOUR_SPACES)}")
+        return self._conversions(space)[1](LMS)
 
     def max_scale(self, LMS) -> tuple[np.ndarray, np.ndarray]:
         """How far each colour's direction from the background can be scaled in gamut, and the limiting channel."""
