@@ -10,7 +10,8 @@ from __future__ import annotations
 import numpy as np
 
 from ._colour import colour
-from .device import RGB_linear_to_device, is_within_gamut, quantisation_cone_contrast
+from .device import (RGB_linear_to_device, channel_first_to_device, is_within_gamut,
+                     quantisation_cone_contrast)
 from .display import DisplayModel
 from .errors import InputError
 from .gamut import DKL_axis_limits, scale_limit
@@ -21,6 +22,7 @@ from .spaces import (
     LMS_to_DKL,
     LMS_to_MacLeod_Boynton,
     MacLeod_Boynton_to_LMS,
+    as_triplets,
     cone_contrast_to_LMS,
     matrix_DKL_directions,
 )
@@ -100,6 +102,50 @@ class Background:
     def LMS_to_space(self, space: str, LMS) -> np.ndarray:
         """A colour's coordinates in ``space``, the inverse of :meth:`colour_to_LMS`."""
         return self._conversions(space)[1](LMS)
+
+    def affine_to_RGB_linear(self, space: str) -> tuple[np.ndarray, np.ndarray]:
+        """``(A, b)`` with ``RGB = values @ A.T + b`` for the spaces linear in cone excitations.
+
+        Composing the chain into one affine map makes whole images cheap: one matrix product per pixel.
+        """
+        M_inverse = self.model.M_LMS_inverse
+        obs = self.model.observer
+        if space == "dkl":
+            return M_inverse @ self.D, self.RGB_0
+        if space == "dkl_display_maximum":
+            return M_inverse @ matrix_DKL_directions(self.LMS_0, obs.w_L, obs.w_M, self.DKL_limits[:, 1]), self.RGB_0
+        if space == "cone_contrast":
+            return M_inverse * self.LMS_0[None, :], self.RGB_0
+        if space == "lms":
+            return M_inverse, -M_inverse @ self.model.LMS_black
+        if space == "rgb_linear":
+            return np.eye(3), np.zeros(3)
+        raise ValueError(f"{space!r} is not linear in cone excitations; use colour_to_LMS")
+
+    def to_RGB_linear(self, space: str, values) -> np.ndarray:
+        """Linear RGB of colours given in ``space``, shape (..., 3); may lie outside 0..1."""
+        if space == "macleod_boynton":
+            return self.model.LMS_to_RGB_linear(self.colour_to_LMS(space, values))
+        A, b = self.affine_to_RGB_linear(space)
+        RGB = as_triplets(values, space) @ A.T
+        RGB += b
+        return RGB
+
+    def to_device(self, space: str, values) -> np.ndarray:
+        """Digital levels of colours given in ``space``, shape (..., 3).
+
+        Raises
+        ------
+        ValueError
+            If any colour lies outside the gamut: nothing is clipped here.
+        """
+        if space == "macleod_boynton":
+            return RGB_linear_to_device(self.to_RGB_linear(space, values), self.model.level_outputs)
+        values = as_triplets(values, space)
+        A, b = self.affine_to_RGB_linear(space)
+        RGB = A @ values.reshape(-1, 3).T  # channel-first (3, N): contiguous rows for the level search
+        RGB += b[:, None]
+        return channel_first_to_device(RGB, self.model.level_outputs).reshape(values.shape)
 
     def max_scale(self, LMS) -> tuple[np.ndarray, np.ndarray]:
         """How far each colour's direction from the background can be scaled in gamut, and the limiting channel."""

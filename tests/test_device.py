@@ -82,3 +82,14 @@ def test_linear_device_linear_round_trip_within_one_step(demo_model, rgb):
     for channel in range(3):
         step = np.max(np.diff(outputs[channel])[max(levels[channel] - 1, 0):levels[channel] + 1])
         assert abs(back[channel] - rgb[channel]) <= 0.5 * step + 1e-15
+
+
+def test_binned_level_search_equals_binary_search_everywhere(demo_model):
+    # The fast path must give exactly np.searchsorted's answer, including values on thresholds and at 0 and 1.
+    from stimlab.device import _nearest_levels, _thresholds
+
+    rng = np.random.default_rng(11)
+    for bits_outputs in (demo_model.level_outputs, np.tile((np.arange(1024) / 1023.0) ** 2.4, (3, 1))):
+        thresholds = _thresholds(bits_outputs)[0]
+        values = np.concatenate([rng.random(20000), rng.random(5000) * 0.01, thresholds, [0.0, 1.0]])
+        assert np.array_equal(_nearest_levels(thresholds, values), np.searchsorted(thresholds, values))
