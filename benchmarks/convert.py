@@ -25,6 +25,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 from stimlab._colour import colour  # noqa: E402
 from stimlab.demo_data import demo_profile  # noqa: E402
 from stimlab.display import DisplayModel  # noqa: E402
+from stimlab.profile import build_profile, transfer_entry  # noqa: E402
 from stimlab.stimulus import Background  # noqa: E402
 
 WIDTH, HEIGHT = 1920, 1080
@@ -55,8 +56,26 @@ def interleaved_best_times(functions, argument):
     return best, results
 
 
+def eight_bit_demo() -> dict:
+    """The demo display driven with 8-bit input: its fitted 10-bit curves sampled at 8-bit levels."""
+    profile = demo_profile()
+    ten_bit = DisplayModel(profile)
+    levels = np.unique(np.round(255 * np.linspace(0, 1, 18) ** 1.5))
+    transfer = {}
+    for channel, curve in zip(("red", "green", "blue"), ten_bit.transfers):
+        full = profile["transfer"][channel]["measured"]["luminance_cd_m2"]
+        luminance = full[0] + (full[-1] - full[0]) * curve.forward(levels / 255)
+        transfer[channel] = transfer_entry(levels, luminance, 8)
+    primaries = profile["primaries"]
+    wavelengths = np.array(primaries["wavelength_nm"])
+    black = np.array(primaries["black"])
+    measured = np.array([primaries[c] for c in ("red", "green", "blue")]).T + black[:, None]
+    return build_profile("demo display at 8 bits", transfer=transfer, bits=8, spectra=(wavelengths, measured, black),
+                         size_cm=profile["size_cm"], size_px=profile["size_px"])
+
+
 def main() -> None:
-    model = DisplayModel(demo_profile(), "ss2")
+    model = DisplayModel(eight_bit_demo(), "ss2")
     background = Background(model, [0.5, 0.5, 0.5])
     image = gabor_DKL(background)
     A, b = background.affine_to_RGB_linear("dkl")

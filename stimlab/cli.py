@@ -39,7 +39,7 @@ def numbers(count: int):
 
 
 def build_parser() -> argparse.ArgumentParser:
-    from .commands import convert_cmd, display_cmd
+    from .commands import convert_cmd, display_cmd, protocol_cmd
 
     parser = argparse.ArgumentParser(
         prog="stimlab",
@@ -50,6 +50,7 @@ def build_parser() -> argparse.ArgumentParser:
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", required=True)
     display_cmd.register(sub, numbers)
     convert_cmd.register(sub, numbers)
+    protocol_cmd.register(sub, numbers)
     return parser
 
 

@@ -18,13 +18,17 @@ def demo_file(name: str) -> str:
     return resources.files("stimlab.data.demo").joinpath(name).read_text(encoding="utf-8")
 
 
+DEMO_BITS = 10
+
+
 def demo_profile(measured_on: str = DEMO_MEASURED_ON, model: str = "gog") -> dict:
-    """The demo display's profile, built from its shipped measurement files."""
+    """The demo display's profile (a 10-bit panel), built from its shipped measurement files."""
     wavelengths, primaries, black = parse_spectra(demo_file("vale_street_b12_spectra.csv"),
                                                   "vale_street_b12_spectra.csv")
-    measurements = parse_transfer(demo_file("vale_street_b12_transfer.csv"), 8, "vale_street_b12_transfer.csv")
-    transfer = {c: transfer_entry(levels, lum, 8, model) for c, (levels, lum) in measurements.items()}
-    return build_profile(DEMO_DISPLAY_NAME, transfer=transfer, bits=8, refresh_hz=60.0,
+    measurements = parse_transfer(demo_file("vale_street_b12_transfer.csv"), DEMO_BITS,
+                                  "vale_street_b12_transfer.csv")
+    transfer = {c: transfer_entry(levels, lum, DEMO_BITS, model) for c, (levels, lum) in measurements.items()}
+    return build_profile(DEMO_DISPLAY_NAME, transfer=transfer, bits=DEMO_BITS, refresh_hz=60.0,
                          spectra=(wavelengths, primaries, black), size_cm=(53.1, 29.9), size_px=(1920, 1080),
                          measured_by="T. Okafor, Vale Street Colour Vision Laboratory", measured_on=measured_on,
                          notes="demo display: invented, with synthetic spectra")

@@ -24,7 +24,7 @@ def files(tmp_path):
 
 def build(files, *extra, spectra="spectra.csv", transfer="transfer.csv"):
     return main(["display", "build", "--spectra", str(files / spectra), "--transfer", str(files / transfer),
-                 "--name", "Test LCD", "--size-cm", "53.1,29.9", "--size-px", "1920,1080",
+                 "--name", "Test LCD", "--bits", "10", "--size-cm", "53.1,29.9", "--size-px", "1920,1080",
                  "-o", str(files / "profile.json"), *extra])
 
 
@@ -81,10 +81,12 @@ def edit(files, name, text):
     ("spectra.csv", SPECTRA.replace("\n500,", "\n500,-", 1), "row 62, column 'red': negative value"),
     ("spectra.csv", "\n".join(l for l in SPECTRA.splitlines() if not l.startswith("39") and
                               not l.startswith("38")), "must cover at least 390–780 nm"),
-    ("transfer.csv", TRANSFER.replace("red,128,", "red,128.5,"), "column 'level': level '128.5'"),
+    ("transfer.csv", TRANSFER.replace("red,259,", "red,259.5,"), "row 10, column 'level': level '259.5'"),
     ("transfer.csv", TRANSFER.replace("luminance_cd_m2", "luminance"), "missing column(s) luminance_cd_m2"),
-    ("transfer.csv", TRANSFER.replace("green,160,", "green,160,1", 1), "transfer data must be monotone"),
-    ("transfer.csv", TRANSFER.replace("blue,64,", "blue,64,many", 1), "row 40, column 'luminance_cd_m2': 'many"),
+    ("transfer.csv", TRANSFER.replace("green,309,", "green,309,1", 1), "row 33, column 'luminance_cd_m2': "
+     "channel green luminance falls"),
+    ("transfer.csv", TRANSFER.replace("blue,11,", "blue,11,many", 1), "row 45, column 'luminance_cd_m2': 'many"),
+    ("transfer.csv", TRANSFER.replace("red,259,", "red,1024,"), "row 10, column 'level': level '1024' must be"),
     ("transfer.csv", TRANSFER.replace("red,0,", "cyan,0,", 1), "unknown channel 'cyan'"),
 ])
 def test_bad_files_exit_2_naming_file_row_and_column(files, capsys, name, text, expected):
@@ -120,7 +122,7 @@ def test_no_traceback_from_the_installed_command(files):
 
 def test_primaries_from_xyY(files, capsys):
     assert main(["display", "build", "--primaries-xyY", "0.64,0.33,17;0.30,0.60,57.2;0.15,0.06,5.8",
-                 "--transfer", str(files / "transfer.csv"), "--name", "Colorimeter only",
+                 "--transfer", str(files / "transfer.csv"), "--bits", "10", "--name", "Colorimeter only",
                  "-o", str(files / "xyY.json")]) == 0
     assert "approximate" in capsys.readouterr().out
     main(["convert", "--display", str(files / "xyY.json"), "--dkl", "0,0.02,0"])

@@ -10,14 +10,14 @@ from stimlab.device import (RGB_linear_to_device, clip_to_gamut, device_to_RGB_l
 
 def test_nearest_level_in_light_for_every_level(demo_model):
     outputs = demo_model.level_outputs
-    levels = np.repeat(np.arange(256)[:, None], 3, axis=1)
+    levels = np.repeat(np.arange(1024)[:, None], 3, axis=1)
     back = RGB_linear_to_device(device_to_RGB_linear(levels, outputs), outputs)
     # Levels the model cannot tell apart (the gain-offset-gamma cut-off just above black gives several levels
     # zero output) come back as another level with the same output; every other level comes back as itself.
     assert np.array_equal(device_to_RGB_linear(back, outputs), device_to_RGB_linear(levels, outputs))
     distinct = np.diff(outputs, axis=1, prepend=-1.0).T > 0
     assert np.array_equal(back[distinct], levels[distinct])
-    assert distinct.sum() > 3 * 240
+    assert distinct.sum() > 3 * 980
 
 
 def test_level_chosen_is_the_closest_output(demo_model):
@@ -60,14 +60,14 @@ def test_quantisation_matches_a_hand_computed_step(demo_model):
 
 def test_quantisation_at_full_drive_uses_the_step_below(demo_model):
     outputs = demo_model.level_outputs
-    grain = quantisation_cone_contrast(np.array([255, 255, 255]), outputs, demo_model.M_LMS,
+    grain = quantisation_cone_contrast(np.array([1023, 1023, 1023]), outputs, demo_model.M_LMS,
                                        demo_model.RGB_linear_to_LMS(np.ones(3)))
     assert np.all(grain > 0)
 
 
 def test_device_levels_must_be_whole_and_in_range(demo_model):
-    with pytest.raises(ValueError, match="0..255"):
-        device_to_RGB_linear(np.array([0, 256, 3]), demo_model.level_outputs)
+    with pytest.raises(ValueError, match="0..1023"):
+        device_to_RGB_linear(np.array([0, 1024, 3]), demo_model.level_outputs)
     with pytest.raises(ValueError, match="whole"):
         device_to_RGB_linear(np.array([0.5, 2.0, 3.0]), demo_model.level_outputs)
 

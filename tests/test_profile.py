@@ -55,4 +55,4 @@ def test_every_model_is_fitted_and_compared(demo):
     assert entry["model"] == "gog"
     assert set(entry["alternatives"]) == {"power", "table"}
     assert entry["rms"] < entry["alternatives"]["power"]["rms"]  # the demo display has a real offset
-    assert entry["measured"]["level"][0] == 0 and entry["measured"]["level"][-1] == 255
+    assert entry["measured"]["level"][0] == 0 and entry["measured"]["level"][-1] == 1023

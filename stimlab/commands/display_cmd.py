@@ -52,14 +52,6 @@ def register(sub, numbers) -> None:
 
 
 def run_build(args) -> int:
-    transfer_text = read_text(args.transfer)
-    measurements = parse_transfer(transfer_text, args.bits, name=args.transfer)
-    transfer = {}
-    for channel, (levels, luminance) in measurements.items():
-        try:
-            transfer[channel] = transfer_entry(levels, luminance, args.bits, args.model)
-        except InputError as error:
-            raise InputError(f"channel {channel}: {error.message}", file=args.transfer) from None
     spectra = chromaticities = None
     if args.spectra:
         wavelengths, primaries, black = parse_spectra(read_text(args.spectra), name=args.spectra)
@@ -74,6 +66,14 @@ def run_build(args) -> int:
         chromaticities = {c: values[3 * i:3 * i + 3] for i, c in enumerate(CHANNELS)}
         if args.black_xyY:
             chromaticities["black"] = args.black_xyY
+    transfer_text = read_text(args.transfer)
+    measurements = parse_transfer(transfer_text, args.bits, name=args.transfer)
+    transfer = {}
+    for channel, (levels, luminance) in measurements.items():
+        try:
+            transfer[channel] = transfer_entry(levels, luminance, args.bits, args.model)
+        except InputError as error:
+            raise InputError(f"channel {channel}: {error.message}", file=args.transfer) from None
     profile = build_profile(args.name, transfer=transfer, bits=args.bits, refresh_hz=args.refresh,
                             spectra=spectra, chromaticities=chromaticities, size_cm=args.size_cm,
                             size_px=args.size_px, measured_by=args.measured_by, measured_on=args.measured_on)

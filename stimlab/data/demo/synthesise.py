@@ -2,7 +2,7 @@
 
 The display "Vale Street B12 LCD" belongs to the fictional Vale Street Colour Vision Laboratory. Its primary spectra
 are smooth synthetic curves (skewed Gaussians with the widths typical of a white-LED-backlit LCD) scaled to
-plausible luminances, and its transfer measurements follow a gain-offset-gamma curve with 0.3 % seeded noise.
+plausible luminances, and its 10-bit transfer measurements follow a gain-offset-gamma curve with 0.3 % seeded noise.
 Run ``python -m stimlab.data.demo.synthesise`` to regenerate them; the output is deterministic.
 """
 
@@ -47,10 +47,11 @@ def main():
     (HERE / "vale_street_b12_spectra.csv").write_text("\n".join(rows) + "\n")
 
     rng = np.random.default_rng(20261124)
-    levels = np.unique(np.r_[np.arange(0, 256, 16), 255])
+    # A 10-bit panel, measured more densely near black where the curve bends.
+    levels = np.unique(np.round(1023 * np.linspace(0, 1, 21) ** 1.5)).astype(int)
     rows = ["channel,level,luminance_cd_m2"]
     for channel, (gain, gamma) in TRANSFER.items():
-        y = np.clip(gain * levels / 255 + (1 - gain), 0, None) ** gamma
+        y = np.clip(gain * levels / 1023 + (1 - gain), 0, None) ** gamma
         noise = 1 + 0.003 * rng.standard_normal(levels.size)
         noise[[0, -1]] = 1
         luminance = BLACK_LUMINANCE + LUMINANCE[channel] * y * noise
