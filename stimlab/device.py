@@ -87,6 +87,8 @@ def _nearest_levels(thresholds: np.ndarray, values: np.ndarray) -> np.ndarray:
     curve just above black) fall back to the binary search.
     """
     bins = min(16 * (thresholds.size + 1), 2**20)
+    if values.size < 4 * bins:  # too few values to pay for the table
+        return np.searchsorted(thresholds, values)
     edges = np.arange(bins + 1) / bins
     first = np.searchsorted(thresholds, edges[:-1])
     count = np.searchsorted(thresholds, edges[1:]) - first

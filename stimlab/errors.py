@@ -32,19 +32,26 @@ class InputError(ValueError):
         self.field = field
 
     def where(self) -> str:
-        """The location as one short phrase, e.g. ``"spectra.csv row 7, column 'red'"``."""
-        parts = []
-        if self.file:
-            parts.append(str(self.file))
+        """The location as one short phrase.
+
+        Examples
+        --------
+        >>> InputError("x", file="spectra.csv", row=7, field="red").where()
+        "spectra.csv row 7, column 'red'"
+        >>> InputError("x", file="p.json", field="stimuli[2].colour.dkl[1]").where()
+        'p.json, at stimuli[2].colour.dkl[1]'
+        >>> InputError("x", field="--background").where()
+        'option --background'
+        """
         if self.row is not None:
-            parts.append(f"row {self.row}")
-        if self.field:
-            parts.append(f"column '{self.field}'" if self.row is not None else f"'{self.field}'")
-        if not parts:
-            return ""
-        head = parts[0]
-        rest = ", ".join(parts[1:])
-        return f"{head} {rest}".strip() if self.file else ", ".join(parts)
+            place = f"row {self.row}" + (f", column '{self.field}'" if self.field else "")
+        elif self.field:
+            place = f"option {self.field}" if self.field.startswith("-") else f"at {self.field}"
+        else:
+            place = ""
+        if self.file and place:
+            return f"{self.file} {place}" if self.row is not None else f"{self.file}, {place}"
+        return self.file or place
 
     def __str__(self) -> str:
         where = self.where()

@@ -75,9 +75,12 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
     jitter = float(response.get("start_jitter", 0.0))
     coarse = int(round(float(response.get("step_coarse", 10 * fine)) / fine))
 
-    def start_index(rng):
-        values = [s + rng.uniform(-jitter, jitter) if jitter else s for s in start]
-        index = [int(np.clip(round((v - low) / fine), 0, positions.size - 1)) for v in values]
+    last = positions.size - 1
+    nominal = [float(s) for s in start]
+
+    def start_index(rng):  # once per trial: plain Python, no array overhead
+        values = [s + rng.uniform(-jitter, jitter) if jitter else s for s in nominal]
+        index = [min(max(int(round((v - low) / fine)), 0), last) for v in values]
         return index[0] if len(index) == 1 else index
 
     return {

@@ -46,3 +46,15 @@ def crt_profile():
     msds = colour.characterisation.MSDS_DISPLAY_PRIMARIES["Typical CRT Brainard 1997"]
     return build_profile("Typical CRT Brainard 1997", transfer=power_transfer(),
                          spectra=(msds.wavelengths, msds.values, None))
+
+
+@pytest.fixture
+def protocol_named():
+    """A fresh copy of a shipped demo protocol, by file stem."""
+    import json
+    from pathlib import Path
+
+    def load(name):
+        return json.loads((Path(__file__).parents[1] / "protocols" / f"{name}.json").read_text())
+
+    return load

@@ -89,7 +89,8 @@ def test_binned_level_search_equals_binary_search_everywhere(demo_model):
     from stimlab.device import _nearest_levels, _thresholds
 
     rng = np.random.default_rng(11)
-    for bits_outputs in (demo_model.level_outputs, np.tile((np.arange(1024) / 1023.0) ** 2.4, (3, 1))):
+    for bits_outputs in (demo_model.level_outputs, np.tile((np.arange(256) / 255.0) ** 2.4, (3, 1))):
         thresholds = _thresholds(bits_outputs)[0]
-        values = np.concatenate([rng.random(20000), rng.random(5000) * 0.01, thresholds, [0.0, 1.0]])
+        values = np.concatenate([rng.random(200_000), rng.random(50_000) * 0.01, thresholds, [0.0, 1.0]])
+        assert values.size >= 4 * 16 * thresholds.size  # large enough to take the binned path
         assert np.array_equal(_nearest_levels(thresholds, values), np.searchsorted(thresholds, values))
