@@ -13,7 +13,7 @@ $(STAMP): pyproject.toml
 	@touch $(STAMP)
 
 demo: $(STAMP)
-	$(PY) -m stimlab.demo
+	$(PY) -m stimlab.cli serve --data instance --demo
 
 test: $(STAMP)
 	@if [ ! -x /usr/bin/chromium ]; then \

@@ -39,7 +39,7 @@ def numbers(count: int):
 
 
 def build_parser() -> argparse.ArgumentParser:
-    from .commands import convert_cmd, display_cmd, protocol_cmd
+    from .commands import convert_cmd, display_cmd, protocol_cmd, serve_cmd
 
     parser = argparse.ArgumentParser(
         prog="stimlab",
@@ -51,6 +51,7 @@ def build_parser() -> argparse.ArgumentParser:
     display_cmd.register(sub, numbers)
     convert_cmd.register(sub, numbers)
     protocol_cmd.register(sub, numbers)
+    serve_cmd.register(sub, numbers)
     return parser
 
 

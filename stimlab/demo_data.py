@@ -32,3 +32,22 @@ def demo_profile(measured_on: str = DEMO_MEASURED_ON, model: str = "gog") -> dic
                          spectra=(wavelengths, primaries, black), size_cm=(53.1, 29.9), size_px=(1920, 1080),
                          measured_by="T. Okafor, Vale Street Colour Vision Laboratory", measured_on=measured_on,
                          notes="demo display: invented, with synthetic spectra")
+
+
+def install_demo(store) -> list[str]:
+    """Add the demo display and the shipped demo protocols to a data folder, where missing; return what was added."""
+    from pathlib import Path
+    import shutil
+
+    added = []
+    with store.connect() as db:
+        if not any(d["name"] == DEMO_DISPLAY_NAME for d in store.displays(db)):
+            store.add_display(db, demo_profile())
+            added.append(DEMO_DISPLAY_NAME)
+    shipped = Path(__file__).resolve().parents[1] / "protocols"
+    for path in sorted(shipped.glob("*.json")):
+        target = store.protocols / path.name
+        if not target.exists():
+            shutil.copyfile(path, target)
+            added.append(path.name)
+    return added

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["scale_limit", "max_scale_in_gamut", "DKL_axis_limits"]
+__all__ = ["scale_limit", "max_scale_in_gamut", "DKL_axis_limits", "plane_gamut_polygon"]
 
 
 def scale_limit(RGB_0, delta_RGB) -> tuple[np.ndarray, np.ndarray]:
@@ -67,3 +67,35 @@ def DKL_axis_limits(model, RGB_0, D) -> np.ndarray:
     positive = max_scale_in_gamut(model, RGB_0, D.T)
     negative = max_scale_in_gamut(model, RGB_0, -D.T)
     return np.stack([-negative, positive], axis=-1)
+
+
+def plane_gamut_polygon(RGB_0, u_RGB, v_RGB) -> np.ndarray:
+    """Where the plane ``RGB_0 + a·u + b·v`` cuts the RGB cube: the polygon's vertices (a, b), anticlockwise.
+
+    Each face of the cube (a channel at 0 or 1) is a line in the plane; the polygon's vertices are the pairwise
+    intersections of those lines that satisfy every other face.
+
+    Examples
+    --------
+    >>> plane_gamut_polygon([0.5, 0.5, 0.5], [1, 0, 0], [0, 1, 0]).round(6).tolist()
+    [[-0.5, -0.5], [0.5, -0.5], [0.5, 0.5], [-0.5, 0.5]]
+    """
+    RGB_0, u, v = (np.asarray(x, dtype=float) for x in (RGB_0, u_RGB, v_RGB))
+    # Faces as rows of A·(a, b) ≤ c: channel ≤ 1 and −channel ≤ 0.
+    A = np.concatenate([np.stack([u, v], axis=1), -np.stack([u, v], axis=1)])
+    c = np.concatenate([1 - RGB_0, RGB_0])
+    vertices = []
+    for i in range(6):
+        for j in range(i + 1, 6):
+            M = A[[i, j]]
+            if abs(np.linalg.det(M)) < 1e-12:
+                continue
+            point = np.linalg.solve(M, c[[i, j]])
+            if np.all(A @ point <= c + 1e-9):
+                vertices.append(point)
+    if not vertices:
+        return np.zeros((0, 2))
+    vertices = np.unique(np.round(np.array(vertices), 12), axis=0)
+    centre = vertices.mean(axis=0)
+    order = np.argsort(np.arctan2(vertices[:, 1] - centre[1], vertices[:, 0] - centre[0]))
+    return vertices[order]

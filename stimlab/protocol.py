@@ -226,3 +226,38 @@ def load_protocol(path) -> dict:
 def protocol_sha256(data: dict) -> str:
     """sha256 of a protocol's canonical JSON, cited by compiled sessions."""
     return hashlib.sha256(json.dumps(data, sort_keys=True, separators=(",", ":")).encode()).hexdigest()
+
+
+@lru_cache(maxsize=1)
+def schema_enums() -> dict[str, tuple]:
+    """Allowed values of every enumerated protocol field, by index-free path (``stimuli.time_course.kind``)."""
+    schema = protocol_schema()
+    found: dict[str, tuple] = {}
+
+    def resolve(node):
+        while isinstance(node, dict) and "$ref" in node:
+            node = schema["$defs"][node["$ref"].rsplit("/", 1)[-1]]
+        return node
+
+    def walk(node, path, depth=0):
+        node = resolve(node)
+        if not isinstance(node, dict) or depth > 12:
+            return
+        if "enum" in node and path:
+            found[path] = tuple(node["enum"])
+        for key, child in node.get("properties", {}).items():
+            walk(child, f"{path}.{key}" if path else key, depth + 1)
+        if isinstance(node.get("items"), dict):
+            walk(node["items"], path, depth + 1)
+        for child in node.get("oneOf", []):
+            walk(child, path, depth + 1)
+
+    walk(schema, "")
+    return found
+
+
+def enum_for(path: str) -> tuple | None:
+    """The allowed values for the field at a JSON path (indices ignored), or None."""
+    import re
+
+    return schema_enums().get(re.sub(r"\[\d+\]", "", path))

@@ -58,3 +58,24 @@ def protocol_named():
         return json.loads((Path(__file__).parents[1] / "protocols" / f"{name}.json").read_text())
 
     return load
+
+
+@pytest.fixture
+def app(tmp_path):
+    """The web app on a fresh data folder with the demo display and protocols (datasette's make_app_client)."""
+    from stimlab.demo_data import install_demo
+    from stimlab.web import create_app
+
+    app = create_app(tmp_path / "data", testing=True)
+    install_demo(app.extensions["stimlab.store"])
+    return app
+
+
+@pytest.fixture
+def client(app):
+    import re
+
+    client = app.test_client()
+    page = client.get("/protocols")
+    client.csrf = re.search(r'name="csrf-token" content="([^"]+)"', page.text).group(1)
+    return client

@@ -1,0 +1,96 @@
+"""The local web app: a thin Flask layer over the colour core, the protocol audit and the SQLite store."""
+
+from __future__ import annotations
+
+import secrets
+from pathlib import Path
+
+from flask import Flask, g, redirect, render_template, url_for
+
+from .. import __version__
+from .errors import register_error_handlers
+from .security import install_guards
+from .store import Store
+
+__all__ = ["create_app", "MAX_UPLOAD_BYTES"]
+
+ROOT = Path(__file__).resolve().parents[2]
+MAX_UPLOAD_BYTES = 5 * 1024 * 1024
+
+
+def _secret(store: Store) -> str:
+    path = store.root / "secret_key"
+    if not path.exists():
+        path.write_text(secrets.token_hex(32))
+        path.chmod(0o600)
+    return path.read_text().strip()
+
+
+def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool = False) -> Flask:
+    """Build the app on a data folder (created if missing).
+
+    Parameters
+    ----------
+    data_dir
+        Folder for the SQLite database and the protocol files.
+    allowed_hosts
+        Host names accepted besides the loopback names (the address given to ``--host``).
+    """
+    store = Store(data_dir)
+    app = Flask("stimlab", template_folder=str(ROOT / "templates"), static_folder=str(ROOT / "static"))
+    app.config.update(SECRET_KEY=_secret(store), MAX_CONTENT_LENGTH=MAX_UPLOAD_BYTES, TESTING=testing,
+                      SESSION_COOKIE_SAMESITE="Strict", SESSION_COOKIE_HTTPONLY=True,
+                      TEMPLATES_AUTO_RELOAD=False)
+    # Protocols keep the order their authors wrote them in, in the API and in the editor page.
+    app.json.sort_keys = False
+    app.jinja_env.policies["json.dumps_kwargs"] = {"sort_keys": False}
+    app.extensions["stimlab.store"] = store
+    app.extensions["stimlab.audit_cache"] = {}
+    from ..protocol import enum_for
+
+    app.jinja_env.globals.update(version=__version__, enum_for=enum_for)
+    install_guards(app, allowed_hosts or set())
+    register_error_handlers(app)
+
+    @app.before_request
+    def open_db():
+        g.db = store.connect()
+
+    @app.teardown_request
+    def close_db(exc):
+        db = g.pop("db", None)
+        if db is not None:
+            db.close()
+
+    @app.after_request
+    def headers(response):
+        response.headers.setdefault("X-Content-Type-Options", "nosniff")
+        response.headers.setdefault("X-Frame-Options", "DENY")
+        response.headers.setdefault("Referrer-Policy", "no-referrer")
+        response.headers.setdefault("Content-Security-Policy",
+                                    "default-src 'self'; img-src 'self' data:; style-src 'self'; "
+                                    "script-src 'self'; connect-src 'self'; frame-ancestors 'none'")
+        return response
+
+    from . import displays, protocols, sessions
+
+    app.register_blueprint(displays.blueprint)
+    app.register_blueprint(protocols.blueprint)
+    app.register_blueprint(sessions.blueprint)
+
+    @app.get("/")
+    def home():
+        return redirect(url_for("protocols.index"))
+
+    @app.get("/api/")
+    def api_index():
+        return {"stimlab": __version__, "endpoints": sorted(str(r) for r in app.url_map.iter_rules()
+                                                             if str(r).startswith("/api/"))}
+
+    return app
+
+
+def current_store() -> Store:
+    from flask import current_app
+
+    return current_app.extensions["stimlab.store"]

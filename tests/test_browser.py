@@ -1,0 +1,132 @@
+"""End to end in Debian's Chromium (Playwright) against a real server on a free port.
+
+Screenshots of each page go to test-artifacts/ for a person to look at.
+"""
+
+import json
+import os
+import socket
+import subprocess
+import sys
+import time
+import urllib.request
+from pathlib import Path
+
+import pytest
+
+from stimlab.demo_data import demo_file
+
+ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
+CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",
+                 "--no-first-run", "--force-color-profile=srgb"]
+
+
+@pytest.fixture(scope="session")
+def browser_type_launch_args():
+    return {"executable_path": "/usr/bin/chromium", "args": CHROMIUM_ARGS}
+
+
+def free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+@pytest.fixture(scope="module")
+def server(tmp_path_factory):
+    """``stimlab serve --demo`` as a subprocess; its output is printed if it dies (datasette's pattern)."""
+    port = free_port()
+    data = tmp_path_factory.mktemp("serve")
+    process = subprocess.Popen([sys.executable, "-m", "stimlab.cli", "serve", "--data", str(data), "--demo",
+                                "--port", str(port)], stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True,
+                               env={**os.environ, "PYTHONUNBUFFERED": "1"})
+    url = f"http://127.0.0.1:{port}"
+    for _ in range(100):
+        if process.poll() is not None:
+            pytest.fail(f"stimlab serve exited with {process.returncode}:\n{process.stdout.read()}")
+        try:
+            urllib.request.urlopen(url + "/api/", timeout=1)
+            break
+        except OSError:
+            time.sleep(0.1)
+    else:
+        process.kill()
+        pytest.fail("stimlab serve did not answer within 10 s")
+    yield {"url": url, "data": data}
+    process.terminate()
+    process.wait(timeout=10)
+
+
+def shot(page, name):
+    ARTIFACTS.mkdir(exist_ok=True)
+    page.screenshot(path=str(ARTIFACTS / f"{name}.png"), full_page=True)
+
+
+def test_add_a_display_through_the_form(server, page, tmp_path):
+    spectra, transfer = tmp_path / "spectra.csv", tmp_path / "transfer.csv"
+    spectra.write_text(demo_file("vale_street_b12_spectra.csv"))
+    transfer.write_text(demo_file("vale_street_b12_transfer.csv"))
+    page.goto(server["url"] + "/displays/new")
+    shot(page, "display_new")
+    page.get_by_label("Name").fill("Room C LCD")
+    page.get_by_label("Bits per channel").fill("10")
+    page.get_by_label("Visible size (cm)").fill("53.1,29.9")
+    page.get_by_label("Resolution (pixels)").fill("1920,1080")
+    page.get_by_label("Primary spectra (CSV)").set_input_files(str(spectra))
+    page.get_by_label("Transfer measurements (CSV)").set_input_files(str(transfer))
+    page.get_by_role("button", name="Build the profile").click()
+    page.wait_for_url("**/displays/*")
+    assert page.get_by_role("heading", level=1).inner_text().startswith("Room C LCD")
+    assert page.locator("svg").count() >= 4
+    shot(page, "display")
+    page.goto(server["url"] + "/displays")
+    assert page.get_by_role("link", name="Room C LCD").is_visible()
+    shot(page, "displays")
+
+
+def test_edit_a_protocol_with_the_live_audit(server, page):
+    page.goto(server["url"] + "/protocols")
+    shot(page, "protocols")
+    page.get_by_role("link", name="afterimage_null.json").click()
+    verdict = page.locator("#audit-verdict")
+    verdict.wait_for()
+    assert verdict.inner_text().startswith("Passes")
+    contrast = page.locator('input[name="conditions.variables.axis.L-M[1]"]')
+    for value in ("0.1", "0.15", "0.2"):  # raise the adapting L−M contrast step by step
+        contrast.fill(value)
+        page.wait_for_timeout(800)  # the audit runs 300 ms after the last keystroke
+        if page.locator("#audit-verdict").inner_text().startswith("Fails"):
+            break
+    assert page.locator("#audit-verdict").inner_text().startswith("Fails")
+    assert "out of gamut" in page.locator(".findings").inner_text()
+    shot(page, "protocol_edit_failing")
+    contrast.fill("0.05")  # lower it back, below the original
+    page.locator("#audit-verdict", has_text="Passes").wait_for()
+    page.get_by_role("button", name="Save").click()
+    page.locator("#save-status", has_text="Saved").wait_for()
+    shot(page, "protocol_edit_saved")
+    page.reload()
+    assert page.locator('input[name="conditions.variables.axis.L-M[1]"]').input_value() == "0.05"
+    saved = (Path(server["data"]) / "protocols" / "afterimage_null.json").read_text()
+    assert json.loads(saved)["conditions"]["variables"]["axis"]["L-M"] == [0, 0.05, 0]
+    assert saved.lstrip().startswith('{\n  "stimlab_protocol": 1')  # the author's order is kept
+
+
+def test_a_typo_is_flagged_on_its_field(server, page):
+    page.goto(server["url"] + "/protocols/contrast_match.json")
+    page.locator("#audit-verdict").wait_for()
+    size = page.locator('input[name="stimuli[1].size_deg"]')
+    size.fill("-2")
+    page.locator(".field.invalid").wait_for()
+    assert page.locator('.field.invalid input[name="stimuli[1].size_deg"]').count() == 1
+    assert "stimuli[1].size_deg" in page.locator("#audit-verdict").inner_text()
+    shot(page, "protocol_edit_invalid")
+
+
+def test_requests_without_token_or_from_a_foreign_host_are_refused(server, page):
+    page.goto(server["url"] + "/sessions")
+    shot(page, "sessions")
+    refused = page.request.post(server["url"] + "/api/audit", data={"protocol": {}})
+    assert refused.status == 403 and refused.json()["error"]["field"] == "csrf_token"
+    foreign = page.request.get(server["url"] + "/api/displays", headers={"Host": "rebind.example"})
+    assert foreign.status == 403

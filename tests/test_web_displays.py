@@ -1,0 +1,65 @@
+"""Display pages and API through the Flask test client."""
+
+import io
+import json
+
+from stimlab.demo_data import demo_file
+
+
+def form(**extra):
+    data = {"name": "Room C LCD", "bits": "10", "refresh": "60", "size_cm": "53.1,29.9", "size_px": "1920,1080",
+            "measured_by": "J. Park", "model": "gog",
+            "spectra": (io.BytesIO(demo_file("vale_street_b12_spectra.csv").encode()), "spectra.csv"),
+            "transfer": (io.BytesIO(demo_file("vale_street_b12_transfer.csv").encode()), "transfer.csv")}
+    data.update(extra)
+    return data
+
+
+def test_list_and_page(client):
+    listing = client.get("/displays")
+    assert listing.status_code == 200 and "Vale Street B12 LCD" in listing.text
+    page = client.get("/displays/1")
+    assert page.status_code == 200
+    for text in ("Transfer curves", "isoluminant plane", "MacLeod–Boynton", "122.85 cd/m²", "One digital level"):
+        assert text in page.text
+    assert page.text.count("<svg") >= 4
+
+
+def test_add_a_display_through_the_form(client):
+    response = client.post("/displays", data={**form(), "csrf_token": client.csrf}, content_type="multipart/form-data")
+    assert response.status_code == 303
+    page = client.get(response.headers["Location"])
+    assert "Room C LCD" in page.text and "J. Park" in page.text
+
+
+def test_bad_upload_re_shows_the_form_with_the_row_named(client):
+    bad = demo_file("vale_street_b12_transfer.csv").replace("red,259,", "red,259,lots", 1)
+    response = client.post("/displays", data={**form(transfer=(io.BytesIO(bad.encode()), "transfer.csv")),
+                                              "csrf_token": client.csrf}, content_type="multipart/form-data")
+    assert response.status_code == 400
+    assert "transfer.csv row 10, column &#39;luminance_cd_m2&#39;" in response.text
+    assert 'value="Room C LCD"' in response.text  # what was typed is kept
+    assert len(client.get("/api/displays").get_json()["displays"]) == 1  # nothing half-saved
+
+
+def test_api(client, demo):
+    displays = client.get("/api/displays").get_json()["displays"]
+    assert displays[0]["summary"]["bits"] == 10
+    profile = dict(demo, name="Copy")
+    from stimlab.profile import profile_hash
+
+    profile["sha256"] = profile_hash(profile)
+    created = client.post("/api/displays", json={"profile": profile}, headers={"X-CSRF-Token": client.csrf})
+    assert created.status_code == 201 and created.get_json()["name"] == "Copy"
+    tampered = dict(profile, refresh_hz=75)
+    refused = client.post("/api/displays", json={"profile": tampered}, headers={"X-CSRF-Token": client.csrf})
+    assert refused.status_code == 400 and refused.get_json()["error"]["field"] == "sha256"
+
+
+def test_a_new_calibration_of_the_same_display_is_a_new_version(client, demo):
+    from stimlab.demo_data import demo_profile
+
+    again = demo_profile(measured_on="2026-11-30")
+    response = client.post("/api/displays", json={"profile": again}, headers={"X-CSRF-Token": client.csrf})
+    assert response.get_json()["version"] == 2
+    assert json.loads(json.dumps(client.get("/api/displays/1").get_json()))["version"] == 1
