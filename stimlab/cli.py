@@ -39,7 +39,7 @@ def numbers(count: int):
 
 
 def build_parser() -> argparse.ArgumentParser:
-    from .commands import convert_cmd, display_cmd, protocol_cmd, serve_cmd
+    from .commands import convert_cmd, display_cmd, export_cmd, protocol_cmd, serve_cmd
 
     parser = argparse.ArgumentParser(
         prog="stimlab",
@@ -52,6 +52,7 @@ def build_parser() -> argparse.ArgumentParser:
     convert_cmd.register(sub, numbers)
     protocol_cmd.register(sub, numbers)
     serve_cmd.register(sub, numbers)
+    export_cmd.register(sub, numbers)
     return parser
 
 

@@ -155,6 +155,8 @@ def _schedules(protocol: dict, refresh_hz: float) -> dict:
             if phase["phase"] == "respond":
                 entry["timeout_frames"] = _frames(phase["timeout_s"], refresh_hz) if "timeout_s" in phase else None
                 entry["response"] = phase["response"]["method"]
+                if "keys" in phase["response"]:
+                    entry["keys"] = phase["response"]["keys"]
             else:
                 frames = _frames(seconds, refresh_hz)
                 entry.update(frames=frames, requested_s=seconds, actual_s=frames / refresh_hz)
@@ -262,6 +264,7 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
                        "device": background.to_device("rgb_linear", background.RGB_0).tolist()},
         "fixation": _fixation(protocol, background, distance, px_per_cm),
         "schedules": _schedules(protocol, refresh),
+        "adaptation_model": protocol.get("adaptation_model"),
         "conditions": compiled_conditions,
         "trials": trials,
     }

@@ -79,3 +79,11 @@ def client(app):
     page = client.get("/protocols")
     client.csrf = re.search(r'name="csrf-token" content="([^"]+)"', page.text).group(1)
     return client
+
+
+@pytest.fixture(scope="session")
+def browser_type_launch_args():
+    """Debian's Chromium, never a downloaded browser; sRGB output so drawn pixels read back unchanged."""
+    from browser_support import CHROMIUM_ARGS
+
+    return {"executable_path": "/usr/bin/chromium", "args": CHROMIUM_ARGS}

@@ -4,57 +4,21 @@ Screenshots of each page go to test-artifacts/ for a person to look at.
 """
 
 import json
-import os
-import socket
-import subprocess
-import sys
-import time
-import urllib.request
 from pathlib import Path
 
 import pytest
 
+from browser_support import Server
 from stimlab.demo_data import demo_file
 
 ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
-CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",
-                 "--no-first-run", "--force-color-profile=srgb"]
-
-
-@pytest.fixture(scope="session")
-def browser_type_launch_args():
-    return {"executable_path": "/usr/bin/chromium", "args": CHROMIUM_ARGS}
-
-
-def free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
 
 
 @pytest.fixture(scope="module")
 def server(tmp_path_factory):
-    """``stimlab serve --demo`` as a subprocess; its output is printed if it dies (datasette's pattern)."""
-    port = free_port()
-    data = tmp_path_factory.mktemp("serve")
-    process = subprocess.Popen([sys.executable, "-m", "stimlab.cli", "serve", "--data", str(data), "--demo",
-                                "--port", str(port)], stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True,
-                               env={**os.environ, "PYTHONUNBUFFERED": "1"})
-    url = f"http://127.0.0.1:{port}"
-    for _ in range(100):
-        if process.poll() is not None:
-            pytest.fail(f"stimlab serve exited with {process.returncode}:\n{process.stdout.read()}")
-        try:
-            urllib.request.urlopen(url + "/api/", timeout=1)
-            break
-        except OSError:
-            time.sleep(0.1)
-    else:
-        process.kill()
-        pytest.fail("stimlab serve did not answer within 10 s")
-    yield {"url": url, "data": data}
-    process.terminate()
-    process.wait(timeout=10)
+    server = Server(tmp_path_factory.mktemp("serve")).start()
+    yield {"url": server.url, "data": server.data}
+    server.stop()
 
 
 def shot(page, name):

@@ -72,8 +72,9 @@ def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool
                                     "script-src 'self'; connect-src 'self'; frame-ancestors 'none'")
         return response
 
-    from . import displays, protocols, sessions
+    from . import displays, protocols, runs, sessions
 
+    app.register_blueprint(runs.blueprint)
     app.register_blueprint(displays.blueprint)
     app.register_blueprint(protocols.blueprint)
     app.register_blueprint(sessions.blueprint)

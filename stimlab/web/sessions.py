@@ -1,15 +1,25 @@
-"""Sessions: the list, filterable by protocol, participant code and status."""
+"""Sessions: the list (filterable by protocol, participant code and status), a page per session with its timing
+quality and responses, and its exports."""
 
 from __future__ import annotations
 
-from flask import Blueprint, g, render_template, request
+import io
+import json
 
+import numpy as np
+from flask import Blueprint, Response, g, render_template, request
+
+from ..export import BIDS_SIDECAR, bids_events, events_tsv, frames_csv, rows_to_csv, session_json, timing, trial_rows
+from ..spaces import LMS_to_DKL
 from . import current_store
 from .errors import WebError
+from .logs import get_session, progress
+from .plots import _Axes
 
 blueprint = Blueprint("sessions", __name__)
 
 STATUSES = ("running", "interrupted", "complete")
+FORMATS = ("csv", "json", "bids", "sidecar", "frames")
 
 
 def _filters() -> dict:
@@ -17,6 +27,13 @@ def _filters() -> dict:
     if filters["status"] and filters["status"] not in STATUSES:
         raise WebError(f"status must be one of {', '.join(STATUSES)}", field="status")
     return filters
+
+
+def _session(session_id: int) -> dict:
+    session = get_session(g.db, session_id)
+    if session is None:
+        raise WebError(f"there is no session {session_id}; pick one from the list", "Not found", 404)
+    return session
 
 
 @blueprint.get("/sessions")
@@ -29,3 +46,101 @@ def index():
 @blueprint.get("/api/sessions")
 def api_index():
     return {"sessions": current_store().sessions(g.db, **_filters())}
+
+
+def by_condition(session: dict, rows: list[dict]) -> list[dict]:
+    """Responses per condition, and for nulling or matching designs the null/match against the adapting vector."""
+    data = session["compiled"]
+    model = data.get("adaptation_model") or {}
+    LMS_0 = np.array(data["background"]["lms"])
+    obs = data["observer"]
+    summary = []
+    for condition in data["conditions"]:
+        done = [r for r in rows if r["condition"] == condition["label"] and r["completed"]]
+        entry = {"label": condition["label"], "n": len(done),
+                 "rt_ms": float(np.mean([r["response_rt_ms"] for r in done if r["response_rt_ms"] is not None]))
+                 if any(r["response_rt_ms"] is not None for r in done) else None}
+        correct = [r["response_correct"] for r in done if r["response_correct"] is not None]
+        if correct:
+            entry["proportion_correct"] = float(np.mean(correct))
+        nulls = [[r["response_dkl_lm"], r["response_dkl_s"]] for r in done if "response_dkl_lm" in r]
+        if nulls:
+            entry["response_dkl_mean"] = np.mean(nulls, axis=0).tolist()
+            entry["response_dkl_sd"] = np.std(nulls, axis=0, ddof=1).tolist() if len(nulls) > 1 else [0.0, 0.0]
+            source = None
+            if model.get("kind") == "after_image":
+                source = condition["stimuli"][model["adapter"]]["colour"]
+            elif model.get("kind") == "induction":
+                inducer = condition["stimuli"][model["inducer"]]
+                source = inducer.get("second_colour", inducer["colour"])
+            if source:
+                adapt = LMS_to_DKL(np.array(source["lms"]), LMS_0, obs["w_L"], obs["w_M"])[1:]
+                entry["adapt_dkl"] = adapt.tolist()
+                norm = float(np.linalg.norm(adapt))
+                entry["strength"] = float(np.linalg.norm(entry["response_dkl_mean"]) / norm) if norm else None
+        summary.append(entry)
+    return summary
+
+
+def vectors_plot(summary: list[dict]) -> dict | None:
+    """Adapting (or surround) vectors and the mean null (or match) vectors in the DKL isoluminant plane."""
+    pairs = [s for s in summary if "adapt_dkl" in s]
+    if not pairs:
+        return None
+    span = 1.15 * max(max(abs(v) for s in pairs for v in s["adapt_dkl"] + s["response_dkl_mean"]), 1e-6)
+    axes = _Axes((-span, span), (-span, span), width=300, height=300)
+    ticks = [round(t, 4) for t in np.linspace(-span, span, 5)]
+    return {"frame": axes.frame(ticks, ticks, "L−M (DKL)", "S (DKL)"), "ox": axes.x(0), "oy": axes.y(0),
+            "vectors": [{"label": s["label"], "ax": axes.x(s["adapt_dkl"][0]), "ay": axes.y(s["adapt_dkl"][1]),
+                         "nx": axes.x(s["response_dkl_mean"][0]), "ny": axes.y(s["response_dkl_mean"][1]),
+                         "strength": s["strength"]} for s in pairs]}
+
+
+def histogram_plot(quality: dict) -> dict:
+    edges, counts = quality["histogram"]["edges_ms"], quality["histogram"]["counts"]
+    top = max(counts + [1])
+    axes = _Axes((edges[0], edges[-1]), (0, top), height=180)
+    bars = [{"x": axes.x(a), "width": max(axes.x(b) - axes.x(a) - 1, 1), "y": axes.y(c), "h": axes.y(0) - axes.y(c),
+             "label": f"{a:.1f}–{b:.1f} ms: {c}"} for a, b, c in zip(edges, edges[1:], counts)]
+    period = quality["period_ms"]
+    return {"frame": axes.frame([0, period, 1.5 * period, 2 * period, 3 * period], [0, top], "frame interval (ms)",
+                                "frames"), "bars": bars, "drop_x": axes.x(1.5 * period)}
+
+
+@blueprint.get("/sessions/<int:session_id>")
+def show(session_id: int):
+    session = _session(session_id)
+    rows = trial_rows(g.db, session)
+    quality = timing(g.db, session)
+    summary = by_condition(session, rows)
+    display = current_store().display(g.db, session["display_id"])
+    return render_template("session.html", session=session, rows=rows, quality=quality, summary=summary,
+                           vectors=vectors_plot(summary), histogram=histogram_plot(quality), display=display,
+                           progress=progress(g.db, session_id), formats=FORMATS)
+
+
+@blueprint.get("/sessions/<int:session_id>/export.<fmt>")
+def export(session_id: int, fmt: str):
+    session = _session(session_id)
+    stem = f"session-{session_id}_{session['participant']}"
+    if fmt == "csv":
+        return _download(rows_to_csv(trial_rows(g.db, session)), f"{stem}_trials.csv", "text/csv")
+    if fmt == "json":
+        profile = current_store().display(g.db, session["display_id"])["profile"]
+        return _download(json.dumps(session_json(g.db, session, profile), indent=1), f"{stem}.json",
+                         "application/json")
+    if fmt == "bids":
+        return _download(events_tsv(bids_events(g.db, session)), f"sub-{session['participant']}_task-stimlab_"
+                         f"run-{session_id}_events.tsv", "text/tab-separated-values")
+    if fmt == "sidecar":
+        return _download(json.dumps(BIDS_SIDECAR, indent=2), f"sub-{session['participant']}_task-stimlab_"
+                         f"run-{session_id}_events.json", "application/json")
+    if fmt == "frames":
+        out = io.StringIO()
+        frames_csv(g.db, session_id, out)
+        return _download(out.getvalue(), f"{stem}_frames.csv", "text/csv")
+    raise WebError(f"unknown export format {fmt!r}; choose one of: {', '.join(FORMATS)}", "Not found", 404)
+
+
+def _download(text: str, filename: str, mimetype: str) -> Response:
+    return Response(text, mimetype=mimetype, headers={"Content-Disposition": f'attachment; filename="{filename}"'})

@@ -1,0 +1,158 @@
+// Drawing compiled device levels on a canvas: 8-bit canvases take rgb() levels directly; deeper profiles use a
+// float16 canvas holding level / d_max exactly (checked by the colour self-test before the first trial).
+
+export class Painter {
+  constructor(canvas, data) {
+    this.canvas = canvas;
+    this.bits = data.display.bits;
+    this.dMax = 2 ** this.bits - 1;
+    const [width, height] = data.display.size_px;
+    canvas.width = width;
+    canvas.height = height;
+    canvas.style.width = `${width / devicePixelRatio}px`;
+    canvas.style.height = `${height / devicePixelRatio}px`;
+    this.wide = this.bits > 8;
+    this.ctx = canvas.getContext("2d", this.wide ? { colorType: "float16" } : { alpha: false });
+    this.supported = !this.wide || this.ctx.getContextAttributes().colorType === "float16";
+    this.centre = [width / 2, height / 2];
+    this.patches = new Map();
+  }
+
+  css(levels) {
+    const [r, g, b] = levels;
+    if (this.wide) return `color(srgb ${r / this.dMax} ${g / this.dMax} ${b / this.dMax})`;
+    return `rgb(${r} ${g} ${b})`;
+  }
+
+  // Draw one pixel with the same path as stimuli and read it back as device levels.
+  probe(levels) {
+    this.ctx.fillStyle = this.css(levels);
+    this.ctx.fillRect(0, 0, 1, 1);
+    const pixel = this.wide ? this.ctx.getImageData(0, 0, 1, 1, { pixelFormat: "rgba-float16" })
+      : this.ctx.getImageData(0, 0, 1, 1);
+    return Array.from(pixel.data.slice(0, 3), (v) => (this.wide ? Math.round(v * this.dMax) : v));
+  }
+
+  at(position) {
+    return [this.centre[0] + position[0], this.centre[1] - position[1]];
+  }
+
+  disc(x, y, radius, levels) {
+    this.ctx.fillStyle = this.css(levels);
+    this.ctx.beginPath();
+    this.ctx.arc(x, y, radius, 0, 2 * Math.PI);
+    this.ctx.fill();
+  }
+
+  // scene: { background, items: [{ geometry, levels, second, patch }], fixation }
+  draw(scene) {
+    const ctx = this.ctx;
+    ctx.fillStyle = this.css(scene.background);
+    ctx.fillRect(0, 0, this.canvas.width, this.canvas.height);
+    for (const item of scene.items) this.item(item);
+    if (scene.fixation) this.fixation(scene.fixation);
+  }
+
+  item({ geometry: g, levels, second, patch }) {
+    const [x, y] = this.at(g.position_px);
+    const r = (g.size_px ?? 0) / 2;
+    const ctx = this.ctx;
+    switch (g.shape) {
+      case "uniform_field":
+        ctx.fillStyle = this.css(levels);
+        ctx.fillRect(0, 0, this.canvas.width, this.canvas.height);
+        break;
+      case "square":
+        ctx.fillStyle = this.css(levels);
+        ctx.fillRect(x - r, y - r, 2 * r, 2 * r);
+        break;
+      case "annulus":
+        ctx.fillStyle = this.css(levels);
+        ctx.beginPath();
+        ctx.arc(x, y, r, 0, 2 * Math.PI);
+        ctx.arc(x, y, g.inner_size_px / 2, 0, 2 * Math.PI, true);
+        ctx.fill("evenodd");
+        break;
+      case "centre_surround":
+        this.disc(x, y, g.surround_size_px / 2, second);
+        this.disc(x, y, r, levels);
+        break;
+      case "bipartite":
+        ctx.fillStyle = this.css(levels);
+        ctx.beginPath();
+        ctx.arc(x, y, r, Math.PI / 2, 1.5 * Math.PI);
+        ctx.fill();
+        ctx.fillStyle = this.css(second);
+        ctx.beginPath();
+        ctx.arc(x, y, r, -Math.PI / 2, Math.PI / 2);
+        ctx.fill();
+        break;
+      case "gaussian":
+      case "grating":
+        this.putPatch(x, y, patch);
+        break;
+      default:
+        this.disc(x, y, r, levels);
+    }
+  }
+
+  // Per-pixel stimuli: value = modulation × envelope (× carrier), looked up in the compiled table.
+  putPatch(x, y, { key, sigma, cyclesPerPx = 0, orientation = 0, modulation, table, maxLevel = null }) {
+    let image = this.patches.get(key);
+    if (!image) {
+      const half = Math.ceil(2 * sigma);
+      const size = 2 * half + 1;
+      image = this.wide ? this.ctx.createImageData(size, size, { pixelFormat: "rgba-float16" })
+        : this.ctx.createImageData(size, size);
+      const cos = Math.cos((orientation * Math.PI) / 180);
+      const sin = Math.sin((orientation * Math.PI) / 180);
+      const steps = table.length - 1;
+      for (let j = 0; j < size; j++) {
+        for (let i = 0; i < size; i++) {
+          const dx = i - half;
+          const dy = half - j;
+          const r2 = dx * dx + dy * dy;
+          const inside = r2 <= 4 * sigma * sigma;
+          let value = Math.exp(-r2 / (2 * sigma * sigma)) * modulation;
+          if (cyclesPerPx) value *= Math.cos(2 * Math.PI * cyclesPerPx * (dx * cos + dy * sin));
+          const index = maxLevel === null ? Math.round(((value + 1) / 2) * steps) : Math.round(value * maxLevel);
+          const levels = inside ? table[Math.max(0, Math.min(steps, index))] : null;
+          const o = 4 * (j * size + i);
+          if (levels) {
+            for (let c = 0; c < 3; c++) image.data[o + c] = this.wide ? levels[c] / this.dMax : levels[c];
+            image.data[o + 3] = this.wide ? 1 : 255;
+          }
+        }
+      }
+      image.half = half;
+      if (this.patches.size > 512) this.patches.clear();
+      this.patches.set(key, image);
+    }
+    // Transparent corners must show the background: draw through a scratch canvas so alpha composites.
+    const scratch = this.scratch ?? (this.scratch = new OffscreenCanvas(1, 1));
+    if (scratch.width !== image.width) {
+      scratch.width = image.width;
+      scratch.height = image.height;
+      this.scratchCtx = scratch.getContext("2d", this.wide ? { colorType: "float16" } : {});
+    }
+    this.scratchCtx.putImageData(image, 0, 0);
+    this.ctx.drawImage(scratch, Math.round(x) - image.half, Math.round(y) - image.half);
+  }
+
+  fixation({ shape, size_px: size, device }) {
+    const [x, y] = this.centre;
+    const ctx = this.ctx;
+    if (shape === "dot") {
+      this.disc(x, y, Math.max(1, size / 2), device);
+      return;
+    }
+    ctx.strokeStyle = this.css(device);
+    ctx.lineWidth = Math.max(1, size / 8);
+    ctx.beginPath();
+    ctx.moveTo(x - size / 2, y);
+    ctx.lineTo(x + size / 2, y);
+    ctx.moveTo(x, y - size / 2);
+    ctx.lineTo(x, y + size / 2);
+    ctx.stroke();
+  }
+}

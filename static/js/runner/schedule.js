@@ -1,0 +1,218 @@
+// Frame-locked trials: every phase lasts a whole number of requestAnimationFrame callbacks (no timers), every
+// frame is logged, a frame interval of 1.5 refresh periods or more is a dropped frame, and a phase's onset is the
+// frame it first appears in.
+import { modulation, tableIndex } from "./timecourse.js";
+import { Responder, Staircase } from "./responses.js";
+
+export class Schedule {
+  constructor({ data, painter, log, progress }) {
+    this.data = data;
+    this.painter = painter;
+    this.log = log;
+    this.period = 1000 / data.display.refresh_hz;
+    const done = new Set(progress.completed_trials);
+    this.queue = data.trials.filter((t) => !done.has(t.index));
+    this.frame = progress.last_frame === null ? 0 : progress.last_frame + 1;
+    this.dropped = 0;
+    this.lastStamp = null;
+    this.paused = false;
+    this.fullAdapt = true; // the first trial, and the first after any interruption, adapts for the full time
+    this.staircases = new Map();
+    if (progress.staircase) {
+      for (const [condition, state] of Object.entries(progress.staircase)) this.staircases.set(Number(condition), state);
+    }
+    this.onFinish = () => {};
+  }
+
+  start() {
+    this.nextTrial();
+    requestAnimationFrame((t) => this.tick(t));
+  }
+
+  staircase(condition) {
+    const response = this.data.conditions[condition].response;
+    if (!this.staircases.has(condition) || !(this.staircases.get(condition) instanceof Staircase)) {
+      this.staircases.set(condition, new Staircase(response, this.staircases.get(condition)));
+    }
+    return this.staircases.get(condition);
+  }
+
+  nextTrial() {
+    while (this.queue.length) {
+      const trial = this.queue[0];
+      const condition = this.data.conditions[trial.condition];
+      if (condition.response?.kind === "staircase" && this.staircase(trial.condition).done) {
+        this.queue.shift(); // this staircase has stopped: its remaining trials are not needed
+        continue;
+      }
+      const which = this.fullAdapt || trial.schedule === "first" ? "first" : "repeat";
+      this.trial = { ...trial, phases: this.data.schedules[which], condition };
+      this.phaseIndex = -1;
+      this.trialDropped = 0;
+      this.fullAdapt = false;
+      this.enterPhase(null);
+      return true;
+    }
+    this.trial = null;
+    return false;
+  }
+
+  enterPhase(stamp) {
+    this.phaseIndex += 1;
+    this.inPhase = 0;
+    this.onsetPending = true;
+    const phase = this.phase;
+    if (phase?.phase === "respond") {
+      this.responder = new Responder(phase.response, this.trial.condition.response, phase);
+      if (phase.response === "staircase") this.responder.staircase = this.staircase(this.trial.condition.index);
+    } else if (this.phaseIndex === 0) {
+      this.responder = null;
+    }
+    return stamp;
+  }
+
+  get phase() {
+    return this.trial?.phases[this.phaseIndex];
+  }
+
+  key(event) {
+    if (!this.trial || this.phase?.phase !== "respond" || !this.responder || this.responder.result) return;
+    const record = this.responder.key(event);
+    if (!record) return;
+    event.preventDefault();
+    const { kind, ...data } = record;
+    this.log.event(kind, { trial: this.trial.index, phase: "respond", t: event.timeStamp, ...data });
+  }
+
+  // The colour of a stimulus this frame, as device levels (or a per-pixel patch description).
+  item(name) {
+    const c = this.trial.condition.stimuli[name];
+    const phase = this.phase;
+    const m = modulation(c.time_course, this.inPhase, phase.frames);
+    const g = { ...c.geometry };
+    const response = this.trial.condition.response;
+    const target = response && response.target === name;
+    if (this.trial.target_side && target) {
+      g.position_px = [(this.trial.target_side === "left" ? -1 : 1) * Math.abs(g.position_px[0]), g.position_px[1]];
+    }
+    const item = { geometry: g, levels: c.colour.device, second: c.second_colour?.device };
+    const perPixel = g.shape === "gaussian" || g.shape === "grating";
+    if (target && response.kind === "adjustment" && phase.phase === "respond" && this.responder) {
+      item.levels = this.responder.levels();
+    } else if (target && response.kind === "staircase") {
+      const index = this.staircase(this.trial.condition.index).index;
+      item.levels = response.device[index];
+      if (perPixel) {
+        item.patch = { key: `${name}|s${this.trial.condition.index}|${index}|${m.toFixed(4)}`, sigma: g.sigma_px,
+          cyclesPerPx: g.cycles_per_px, orientation: g.orientation_deg, modulation: m, table: response.device,
+          maxLevel: index };
+      }
+      return item;
+    }
+    const table = c.colour.modulation_table;
+    if (perPixel) {
+      item.patch = { key: `${name}|${this.trial.condition.index}|${m.toFixed(4)}`, sigma: g.sigma_px,
+        cyclesPerPx: g.cycles_per_px, orientation: g.orientation_deg, modulation: m, table };
+    } else if (table && m !== 1) {
+      item.levels = table[tableIndex(m, table)];
+      if (c.second_colour?.modulation_table) item.second = c.second_colour.modulation_table[tableIndex(m, table)];
+    }
+    return item;
+  }
+
+  tick(stamp) {
+    const callbackStart = performance.now();
+    const dropped = this.lastStamp !== null && stamp - this.lastStamp >= 1.5 * this.period;
+    this.lastStamp = stamp;
+    if (dropped) {
+      this.dropped += 1;
+      this.trialDropped += 1;
+    }
+    if (this.paused) {
+      this.log.frame([this.frame++, stamp, callbackStart, null, "pause", dropped ? 1 : 0]);
+      requestAnimationFrame((t) => this.tick(t));
+      return;
+    }
+    this.advance(stamp);
+    if (!this.trial) {
+      this.log.event("session_end", { t: stamp, frames: this.frame, dropped_frames: this.dropped });
+      this.onFinish();
+      return;
+    }
+    const phase = this.phase;
+    if (this.onsetPending) {
+      this.onsetPending = false;
+      this.log.event("phase_onset", { trial: this.trial.index, phase: phase.phase, t: stamp, frame: this.frame,
+        condition: this.trial.condition.index });
+      if (phase.phase === "respond") this.responder?.begin(this.trial, stamp);
+    }
+    const items = phase.stimuli.map((name) => this.item(name));
+    const showFixation = phase.fixation !== false && this.data.fixation;
+    this.painter.draw({ background: this.data.background.device, items,
+      fixation: showFixation ? this.data.fixation : null });
+    const drawn = items.map((i) => (i.levels ? i.levels.join(",") : "patch")).join(";");
+    this.log.frame([this.frame++, stamp, callbackStart, this.trial.index, phase.phase, dropped ? 1 : 0, drawn]);
+    this.inPhase += 1;
+    requestAnimationFrame((t) => this.tick(t));
+  }
+
+  // Move to the next phase or trial when the current one has run its frames or has its response.
+  advance(stamp) {
+    while (this.trial) {
+      const phase = this.phase;
+      if (!phase) {
+        this.endTrial(stamp);
+        if (!this.nextTrial()) return;
+        continue;
+      }
+      if (phase.phase === "respond") {
+        const answered = this.responder?.result;
+        const timedOut = phase.timeout_frames && this.inPhase >= phase.timeout_frames;
+        if (!answered && !timedOut) return;
+        if (timedOut && !answered) {
+          this.log.event("timeout", { trial: this.trial.index, phase: "respond", t: stamp });
+        }
+      } else if (this.inPhase < phase.frames) {
+        return;
+      }
+      this.enterPhase(stamp);
+    }
+  }
+
+  endTrial(stamp) {
+    const result = this.responder?.result ?? null;
+    const fields = { trial: this.trial.index, t: stamp, condition: this.trial.condition.index,
+      response: result, dropped_frames: this.trialDropped };
+    if (this.trial.condition.response?.kind === "staircase" && result) {
+      const staircase = this.staircase(this.trial.condition.index);
+      fields.staircase_value = staircase.state().value;
+      const state = staircase.update(result.correct);
+      const all = Object.fromEntries([...this.staircases].map(([k, v]) => [k, v.state ? v.state() : v]));
+      this.log.event("staircase", { trial: this.trial.index, t: stamp, ...all, [this.trial.condition.index]: state });
+    }
+    this.log.event("trial_end", fields);
+    this.queue.shift();
+  }
+
+  pause(reason) {
+    if (this.paused) return;
+    this.paused = true;
+    if (this.trial) {
+      this.log.event("trial_aborted", { trial: this.trial.index, reason, t: performance.now() });
+      this.fullAdapt = true;
+      this.nextTrialOnResume = true;
+    }
+    this.log.event("paused", { reason, t: performance.now() });
+  }
+
+  resume() {
+    if (!this.paused) return;
+    this.paused = false;
+    this.log.event("resumed", { t: performance.now() });
+    if (this.nextTrialOnResume) {
+      this.nextTrialOnResume = false;
+      this.fullAdapt = true;
+      this.nextTrial(); // the aborted trial is still first in the queue: it runs again, fully adapted
+    }
+  }
+}

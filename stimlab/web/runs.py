@@ -1,0 +1,159 @@
+"""Running sessions: start one (the audit must pass, or carry a recorded photosensitivity acknowledgement),
+serve the runner page cross-origin isolated, and take its checks and log batches."""
+
+from __future__ import annotations
+
+import re
+
+from flask import Blueprint, g, make_response, redirect, render_template, request, url_for
+
+from ..errors import InputError
+from ..protocol import CAUTION
+from . import current_store
+from .displays import _get as get_display, default_display_id
+from .errors import WebError
+from .logs import create_session, get_session, ingest_batch, progress
+from .protocols import _read as read_protocol, run_audit
+
+blueprint = Blueprint("runs", __name__)
+
+PARTICIPANT = re.compile(r"^[A-Za-z0-9_-]{1,32}$")
+
+
+def _participant(code: str) -> str:
+    code = (code or "").strip()
+    if not PARTICIPANT.match(code):
+        raise InputError("use a pseudonymous code of letters, digits, '-' or '_' (at most 32), never a name",
+                         field="participant")
+    return code
+
+
+def _session(session_id: int) -> dict:
+    session = get_session(g.db, session_id)
+    if session is None:
+        raise WebError(f"there is no session {session_id}", "Not found", 404)
+    return session
+
+
+def gate(report: dict) -> dict:
+    """Whether a protocol may start: blocked by any failure but photosensitivity, which needs acknowledging."""
+    fails = [f for f in report["findings"] if f["severity"] == "fail"]
+    blocking = [f for f in fails if f["kind"] != "photosensitivity"]
+    flashing = [f for f in fails if f["kind"] == "photosensitivity"]
+    return {"blocked": blocking, "needs_acknowledgement": bool(flashing), "flashing": flashing,
+            "caution": report["caution"]}
+
+
+@blueprint.get("/run")
+def start_page():
+    protocols = current_store().protocol_names()
+    name = request.args.get("protocol") or (protocols[0] if protocols else None)
+    display_id = default_display_id(request.args.get("display"))
+    state = None
+    if name and display_id:
+        _, protocol, error = read_protocol(name)
+        if error:
+            raise WebError(f"{name} does not validate: {error}; fix it in the editor first", field="protocol")
+        report, compiled = run_audit(protocol, display_id)
+        state = {**gate(report), "report": report, "trials": len(compiled.data["trials"]),
+                 "conditions": len(compiled.data["conditions"])}
+    return render_template("run_start.html", protocols=protocols, name=name, displays=current_store().displays(g.db),
+                           display_id=display_id, state=state, caution=CAUTION)
+
+
+def start_session(name: str, display_id, participant: str, ack: dict | None) -> int:
+    """Compile, audit and store a new session; refuse a failing audit unless only flashes fail and are acknowledged."""
+    _, protocol, error = read_protocol(name)
+    if error:
+        raise WebError.from_input(error)
+    try:
+        display = get_display(int(display_id or 0))
+    except ValueError:
+        raise WebError(f"display must be a number, got {display_id!r}", field="display") from None
+    participant = _participant(participant)
+    report, compiled = run_audit(protocol, display["id"], participant=_participant_number(participant))
+    state = gate(report)
+    if state["blocked"]:
+        raise WebError("the audit fails: " + "; ".join(f"{f['where']}: {f['message']}" for f in state["blocked"][:3])
+                       + ". Fix the protocol before running it.", "Audit failed", 409, field="protocol")
+    acknowledgement = None
+    if state["needs_acknowledgement"]:
+        ack = ack or {}
+        reference = str(ack.get("ethics_reference", "")).strip()
+        if not ack.get("accepted") or not reference:
+            raise WebError("this protocol exceeds the WCAG 2.2 flash thresholds: record that you accept it and the "
+                           "ethics approval reference that covers it", "Acknowledgement needed", 409,
+                           field="acknowledgement")
+        acknowledgement = {"accepted": True, "ethics_reference": reference,
+                           "experimenter": str(ack.get("experimenter", "")).strip(),
+                           "findings": [f["message"] for f in state["flashing"]], "caution": CAUTION}
+    data = dict(compiled.data, audit={"passed": report["passed"], "counts": report["counts"],
+                                      "caution": report["caution"]})
+    return create_session(g.db, protocol_file=name, protocol_sha256=compiled.data["protocol"]["sha256"],
+                          display_id=display["id"], participant=participant, compiled=data,
+                          acknowledgement=acknowledgement)
+
+
+@blueprint.post("/run")
+def start_form():
+    form = request.form
+    ack = {"accepted": form.get("accept") == "yes", "ethics_reference": form.get("ethics_reference", ""),
+           "experimenter": form.get("experimenter", "")}
+    session_id = start_session(form.get("protocol", ""), form.get("display"), form.get("participant", ""), ack)
+    return redirect(url_for("runs.runner", session_id=session_id), 303)
+
+
+@blueprint.post("/api/sessions")
+def api_create():
+    body = request.get_json(silent=True)
+    if not isinstance(body, dict):
+        raise WebError("send a JSON object with protocol, display and participant", field="body")
+    session_id = start_session(body.get("protocol") or "", body.get("display"), body.get("participant", ""),
+                               body.get("acknowledgement"))
+    return {"id": session_id, "runner": url_for("runs.runner", session_id=session_id)}, 201
+
+
+def _participant_number(code: str) -> int:
+    """Latin-square row: the number in a code like 'P07', else 1."""
+    digits = re.findall(r"\d+", code)
+    return int(digits[-1]) if digits else 1
+
+
+@blueprint.get("/run/<int:session_id>")
+def runner(session_id: int):
+    session = _session(session_id)
+    response = make_response(render_template("runner.html", session=session, caution=CAUTION))
+    # Cross-origin isolation gives 5 µs timer resolution instead of 100 µs.
+    response.headers["Cross-Origin-Opener-Policy"] = "same-origin"
+    response.headers["Cross-Origin-Embedder-Policy"] = "require-corp"
+    return response
+
+
+@blueprint.get("/api/sessions/<int:session_id>")
+def api_show(session_id: int):
+    session = _session(session_id)
+    return {"id": session["id"], "status": session["status"], "participant": session["participant"],
+            "protocol_file": session["protocol_file"], "compiled": session["compiled"],
+            "acknowledgement": session["acknowledgement"], "checks": session["checks"],
+            "progress": progress(g.db, session_id)}
+
+
+@blueprint.post("/api/sessions/<int:session_id>/checks")
+def api_checks(session_id: int):
+    import json
+
+    _session(session_id)
+    body = request.get_json(silent=True)
+    if not isinstance(body, dict):
+        raise WebError("send the check results as a JSON object", field="body")
+    g.db.execute("UPDATE sessions SET checks = ? WHERE id = ?", (json.dumps(body), session_id))
+    return {"saved": True}
+
+
+@blueprint.post("/api/sessions/<int:session_id>/batches")
+def api_batch(session_id: int):
+    session = _session(session_id)
+    if session["status"] == "complete":
+        raise WebError("this session is complete; it takes no more log batches", "Conflict", 409)
+    body = request.get_json(silent=True)
+    return ingest_batch(g.db, session_id, body)

@@ -1,0 +1,48 @@
+"""Helpers for the browser tests: a stimlab server as a subprocess that can be stopped and started again."""
+
+import os
+import socket
+import subprocess
+import sys
+import time
+import urllib.request
+
+CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",
+                 "--no-first-run", "--force-color-profile=srgb"]
+
+
+def free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+class Server:
+    """``stimlab serve --demo`` on a data folder; its output is shown if it dies before answering."""
+
+    def __init__(self, data, port=None):
+        self.data = data
+        self.port = port or free_port()
+        self.url = f"http://127.0.0.1:{self.port}"
+        self.process = None
+
+    def start(self):
+        self.process = subprocess.Popen(
+            [sys.executable, "-m", "stimlab.cli", "serve", "--data", str(self.data), "--demo", "--port",
+             str(self.port)], stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True,
+            env={**os.environ, "PYTHONUNBUFFERED": "1"})
+        for _ in range(150):
+            if self.process.poll() is not None:
+                raise RuntimeError(f"stimlab serve exited with {self.process.returncode}:\n{self.process.stdout.read()}")
+            try:
+                urllib.request.urlopen(self.url + "/api/", timeout=1)
+                return self
+            except OSError:
+                time.sleep(0.1)
+        self.stop()
+        raise RuntimeError("stimlab serve did not answer within 15 s")
+
+    def stop(self):
+        if self.process and self.process.poll() is None:
+            self.process.kill()
+            self.process.wait(timeout=10)
