@@ -16,6 +16,7 @@ import numpy as np
 
 from . import __version__
 from .spaces import LMS_to_DKL
+from .web.logs import FRAME_COLUMNS, iter_frames
 
 __all__ = ["trial_rows", "session_json", "bids_events", "BIDS_SIDECAR", "frames_csv", "rows_to_csv", "timing"]
 
@@ -103,12 +104,10 @@ def timing(db, session: dict) -> dict:
     """Frame-timing quality: dropped frames, the frame-interval histogram, onset error per phase."""
     data = session["compiled"]
     period = 1000.0 / data["display"]["refresh_hz"]
-    stamps = np.array([r[0] for r in db.execute("SELECT t_raf FROM frames WHERE session_id = ? AND phase != 'pause' "
-                                                "ORDER BY frame", (session["id"],))])
-    numbers = np.array([r[0] for r in db.execute("SELECT frame FROM frames WHERE session_id = ? ORDER BY frame",
-                                                 (session["id"],))], dtype=int)
-    dropped = db.execute("SELECT COUNT(*) FROM frames WHERE session_id = ? AND dropped = 1",
-                         (session["id"],)).fetchone()[0]
+    log = list(iter_frames(db, session["id"]))
+    stamps = np.array([f[1] for f in log if f[4] != "pause"])
+    numbers = np.array([f[0] for f in log], dtype=int)
+    dropped = sum(1 for f in log if f[5])
     intervals = np.diff(stamps) if stamps.size > 1 else np.zeros(0)
     intervals = intervals[intervals < 10 * period]  # gaps from pauses and resumes are not frame intervals
     edges = np.arange(0, 3 * period + 1e-9, period / 8)
@@ -133,8 +132,7 @@ def timing(db, session: dict) -> dict:
 
 def session_json(db, session: dict, profile: dict) -> dict:
     """Everything about a session, for archiving: protocol, compiled trials, profile, logs, checks."""
-    frames = [list(r) for r in db.execute("SELECT frame, t_raf, t_callback, trial, phase, dropped, drawn FROM frames "
-                                          "WHERE session_id = ? ORDER BY frame", (session["id"],))]
+    frames = [list(f) for f in iter_frames(db, session["id"])]
     return {"stimlab_session_export": 1, "software_version": __version__, "exporter_version": __version__,
             "session": {k: session[k] for k in ("id", "participant", "status", "started_at", "ended_at",
                                                 "protocol_file", "protocol_sha256", "software_version")},
@@ -167,7 +165,7 @@ def bids_events(db, session: dict) -> list[dict]:
     """BIDS-style events, one per phase onset: onset, duration, trial_type and our columns."""
     data = session["compiled"]
     events = _events(db, session["id"])
-    first = db.execute("SELECT MIN(t_raf) FROM frames WHERE session_id = ?", (session["id"],)).fetchone()[0] or 0.0
+    first = next(iter_frames(db, session["id"]), (0, 0.0))[1]
     onsets = [e for e in events if e["kind"] == "phase_onset"]
     ends = {e["trial"]: e for e in events if e["kind"] == "trial_end"}
     rows = []
@@ -193,15 +191,16 @@ def events_tsv(rows: list[dict]) -> str:
 
 
 def frames_csv(db, session_id: int, out) -> int:
-    """Write the frame log as CSV to a text stream, streaming (memory flat); return the row count."""
-    out.write("frame,t_raf,t_callback,trial,phase,dropped,drawn\n")
+    """Write the frame log as CSV to a text stream, one stored batch at a time (memory flat); return the count.
+
+    Only ``drawn`` can hold commas and it is quoted; it never holds quotes (digits, ',', ';' and names).
+    """
+    out.write(",".join(FRAME_COLUMNS) + "\n")
     count = 0
-    cursor = db.execute("SELECT frame, t_raf, t_callback, trial, phase, dropped, drawn FROM frames "
-                        "WHERE session_id = ? ORDER BY frame", (session_id,))
-    writer = csv.writer(out, lineterminator="\n")
-    while True:
-        chunk = cursor.fetchmany(10_000)
-        if not chunk:
-            return count
-        writer.writerows(chunk)
-        count += len(chunk)
+    for (text,) in db.execute("SELECT columns FROM frames WHERE session_id = ? ORDER BY first_frame, batch",
+                              (session_id,)):
+        c = json.loads(text)
+        out.write("".join(f'{f},{r},{b},{"" if t is None else t},{p or ""},{1 if d else 0},"{w or ""}"\n'
+                          for f, r, b, t, p, d, w in zip(*(c[k] for k in FRAME_COLUMNS))))
+        count += len(c["frame"])
+    return count

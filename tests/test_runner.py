@@ -131,8 +131,9 @@ def test_a_session_end_to_end(server, page):
     import sqlite3
 
     db = sqlite3.connect(server.data / "stimlab.sqlite")
-    frames = [r for r in db.execute("SELECT frame, t_raf, dropped FROM frames WHERE session_id = ? ORDER BY frame",
-                                    (session_id,))]
+    from stimlab.web.logs import iter_frames
+
+    frames = [(f[0], f[1], f[5]) for f in iter_frames(db, session_id)]
     numbers = [f[0] for f in frames]
     assert numbers == list(range(len(numbers)))  # continuous
     stamps = np.array([f[1] for f in frames])

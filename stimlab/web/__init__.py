@@ -54,13 +54,7 @@ def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool
 
     @app.before_request
     def open_db():
-        g.db = store.connect()
-
-    @app.teardown_request
-    def close_db(exc):
-        db = g.pop("db", None)
-        if db is not None:
-            db.close()
+        g.db = store.request_connection()
 
     @app.after_request
     def headers(response):

@@ -13,7 +13,7 @@ import json
 from .. import __version__
 from ..errors import InputError
 
-__all__ = ["create_session", "get_session", "ingest_batch", "set_status", "progress", "PHASES"]
+__all__ = ["create_session", "get_session", "ingest_batch", "iter_frames", "set_status", "progress", "FRAME_COLUMNS"]
 
 PHASES = ("adapt", "top_up", "gap", "test", "respond", "pause", "check")
 STATUSES = ("running", "interrupted", "complete")
@@ -56,8 +56,8 @@ def _field(record, key, kind, where, required=True):
 
 
 def _rows(session_id: int, batch: dict):
-    """Validated rows for ``events`` and ``frames`` from one batch; an InputError names the first bad field."""
-    events, frames = [], []
+    """Validated ``events`` rows and ``frames`` columns of one batch; an InputError names the first bad field."""
+    events = []
     for i, event in enumerate(batch.get("events") or []):
         where = f"events[{i}]"
         if not isinstance(event, dict):
@@ -65,16 +65,39 @@ def _rows(session_id: int, batch: dict):
         events.append((session_id, _field(event, "seq", int, where), _field(event, "t", float, where),
                        _field(event, "kind", str, where), _field(event, "trial", int, where, False),
                        _field(event, "phase", str, where, False), json.dumps(event.get("data") or {})))
-    for i, frame in enumerate(batch.get("frames") or []):
-        if not isinstance(frame, list) or len(frame) < 6:
-            raise InputError("each frame is [frame, t_raf, t_callback, trial, phase, dropped, drawn?]",
-                             field=f"frames[{i}]")
-        number, t_raf, t_callback, trial, phase, dropped = frame[:6]
-        if not isinstance(number, int) or not all(isinstance(t, (int, float)) for t in (t_raf, t_callback)):
-            raise InputError("frame number must be whole and its times numbers", field=f"frames[{i}]")
-        frames.append((session_id, number, float(t_raf), float(t_callback), trial, phase, int(bool(dropped)),
-                       frame[6] if len(frame) > 6 else None))
+    frames = _frame_columns(batch.get("frames"))
     return events, frames
+
+
+FRAME_COLUMNS = ("frame", "t_raf", "t_callback", "trial", "phase", "dropped", "drawn")
+
+
+def _frame_columns(frames) -> dict | None:
+    """Check a batch's columnar frame log: equal-length lists, whole frame numbers, numeric times."""
+    if not frames:
+        return None
+    if not isinstance(frames, dict) or not all(isinstance(frames.get(c), list) for c in FRAME_COLUMNS):
+        raise InputError(f"frames must be an object of equal-length lists: {', '.join(FRAME_COLUMNS)}",
+                         field="frames")
+    count = len(frames["frame"])
+    for column in FRAME_COLUMNS:
+        if len(frames[column]) != count:
+            raise InputError(f"frames.{column} has {len(frames[column])} values for {count} frames",
+                             field=f"frames.{column}")
+    if not all(type(v) is int for v in frames["frame"]):
+        raise InputError("frame numbers must be whole numbers", field="frames.frame")
+    for column in ("t_raf", "t_callback"):
+        if not all(type(v) in (int, float) for v in frames[column]):
+            raise InputError("frame times must be numbers (ms)", field=f"frames.{column}")
+    return {c: frames[c] for c in FRAME_COLUMNS}
+
+
+def iter_frames(db, session_id: int):
+    """The frame log as (frame, t_raf, t_callback, trial, phase, dropped, drawn) tuples, in frame order."""
+    for (text,) in db.execute("SELECT columns FROM frames WHERE session_id = ? ORDER BY first_frame, batch",
+                              (session_id,)):
+        columns = json.loads(text)
+        yield from zip(*(columns[c] for c in FRAME_COLUMNS))
 
 
 def ingest_batch(db, session_id: int, batch: dict) -> dict:
@@ -89,9 +112,12 @@ def ingest_batch(db, session_id: int, batch: dict) -> dict:
             db.execute("ROLLBACK")
             return {"batch": number, "duplicate": True}
         db.executemany("INSERT OR IGNORE INTO events VALUES (?, ?, ?, ?, ?, ?, ?)", events)
-        db.executemany("INSERT OR IGNORE INTO frames VALUES (?, ?, ?, ?, ?, ?, ?, ?)", frames)
-        db.execute("INSERT INTO batches VALUES (?, ?, ?, ?, ?)", (session_id, number, _now(), len(events),
-                                                                  len(frames)))
+        count = len(frames["frame"]) if frames else 0
+        if frames:
+            db.execute("INSERT INTO frames VALUES (?, ?, ?, ?, ?, ?, ?)",
+                       (session_id, number, min(frames["frame"]), max(frames["frame"]), count,
+                        sum(1 for d in frames["dropped"] if d), json.dumps(frames, separators=(",", ":"))))
+        db.execute("INSERT INTO batches VALUES (?, ?, ?, ?, ?)", (session_id, number, _now(), len(events), count))
         for event in batch.get("events") or []:
             if event.get("kind") == "session_end":
                 db.execute("UPDATE sessions SET status = 'complete', ended_at = ? WHERE id = ?", (_now(), session_id))
@@ -105,7 +131,7 @@ def ingest_batch(db, session_id: int, batch: dict) -> dict:
     except Exception:
         db.execute("ROLLBACK")
         raise
-    return {"batch": number, "duplicate": False, "events": len(events), "frames": len(frames)}
+    return {"batch": number, "duplicate": False, "events": len(events), "frames": count}
 
 
 def set_status(db, session_id: int, status: str) -> None:
@@ -119,7 +145,7 @@ def progress(db, session_id: int) -> dict:
     """Which trials have a recorded response, the last frame and event numbers (for resuming)."""
     done = [row[0] for row in db.execute(
         "SELECT DISTINCT trial FROM events WHERE session_id = ? AND kind = 'trial_end' ORDER BY trial", (session_id,))]
-    last_frame = db.execute("SELECT MAX(frame) FROM frames WHERE session_id = ?", (session_id,)).fetchone()[0]
+    last_frame = db.execute("SELECT MAX(last_frame) FROM frames WHERE session_id = ?", (session_id,)).fetchone()[0]
     last_seq = db.execute("SELECT MAX(seq) FROM events WHERE session_id = ?", (session_id,)).fetchone()[0]
     last_batch = db.execute("SELECT MAX(batch) FROM batches WHERE session_id = ?", (session_id,)).fetchone()[0]
     staircase = [json.loads(row[0]) for row in db.execute(

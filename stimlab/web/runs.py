@@ -12,8 +12,9 @@ from ..protocol import CAUTION
 from . import current_store
 from .displays import _get as get_display, default_display_id
 from .errors import WebError
-from .logs import create_session, get_session, ingest_batch, progress
+from .logs import create_session, ingest_batch, progress
 from .protocols import _read as read_protocol, run_audit
+from .sessions import session_or_404 as _session
 
 blueprint = Blueprint("runs", __name__)
 
@@ -26,13 +27,6 @@ def _participant(code: str) -> str:
         raise InputError("use a pseudonymous code of letters, digits, '-' or '_' (at most 32), never a name",
                          field="participant")
     return code
-
-
-def _session(session_id: int) -> dict:
-    session = get_session(g.db, session_id)
-    if session is None:
-        raise WebError(f"there is no session {session_id}", "Not found", 404)
-    return session
 
 
 def gate(report: dict) -> dict:
@@ -152,8 +146,10 @@ def api_checks(session_id: int):
 
 @blueprint.post("/api/sessions/<int:session_id>/batches")
 def api_batch(session_id: int):
-    session = _session(session_id)
-    if session["status"] == "complete":
+    row = g.db.execute("SELECT status FROM sessions WHERE id = ?", (session_id,)).fetchone()
+    if row is None:
+        raise WebError(f"there is no session {session_id}", "Not found", 404)
+    if row["status"] == "complete":
         raise WebError("this session is complete; it takes no more log batches", "Conflict", 409)
     body = request.get_json(silent=True)
     return ingest_batch(g.db, session_id, body)

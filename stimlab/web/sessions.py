@@ -29,7 +29,7 @@ def _filters() -> dict:
     return filters
 
 
-def _session(session_id: int) -> dict:
+def session_or_404(session_id: int) -> dict:
     session = get_session(g.db, session_id)
     if session is None:
         raise WebError(f"there is no session {session_id}; pick one from the list", "Not found", 404)
@@ -109,7 +109,7 @@ def histogram_plot(quality: dict) -> dict:
 
 @blueprint.get("/sessions/<int:session_id>")
 def show(session_id: int):
-    session = _session(session_id)
+    session = session_or_404(session_id)
     rows = trial_rows(g.db, session)
     quality = timing(g.db, session)
     summary = by_condition(session, rows)
@@ -121,7 +121,7 @@ def show(session_id: int):
 
 @blueprint.get("/sessions/<int:session_id>/export.<fmt>")
 def export(session_id: int, fmt: str):
-    session = _session(session_id)
+    session = session_or_404(session_id)
     stem = f"session-{session_id}_{session['participant']}"
     if fmt == "csv":
         return _download(rows_to_csv(trial_rows(g.db, session)), f"{stem}_trials.csv", "text/csv")

@@ -1,5 +1,8 @@
 """The data folder: one SQLite database (WAL) for displays, sessions and their logs, plus the protocol files.
 
+The frame log is stored as it arrives, one row per batch holding its columns as JSON (frame, t_raf, t_callback,
+trial, phase, dropped, drawn): an hour at 120 Hz is 3,600 rows, not 432,000, which keeps ingest and export fast.
+
 The schema version lives in ``PRAGMA user_version``; :data:`MIGRATIONS` are applied in order on open, each in
 its own transaction, so an older data folder is brought up to date without losing anything.
 """
@@ -12,6 +15,7 @@ import json
 import os
 import re
 import sqlite3
+import threading
 from pathlib import Path
 
 from ..errors import InputError
@@ -66,14 +70,13 @@ MIGRATIONS = [
     ) WITHOUT ROWID;
     CREATE TABLE frames (
         session_id INTEGER NOT NULL REFERENCES sessions(id),
-        frame INTEGER NOT NULL,
-        t_raf REAL NOT NULL,
-        t_callback REAL NOT NULL,
-        trial INTEGER,
-        phase TEXT,
+        batch INTEGER NOT NULL,
+        first_frame INTEGER NOT NULL,
+        last_frame INTEGER NOT NULL,
+        count INTEGER NOT NULL,
         dropped INTEGER NOT NULL,
-        drawn TEXT,
-        PRIMARY KEY (session_id, frame)
+        columns TEXT NOT NULL,
+        PRIMARY KEY (session_id, batch)
     ) WITHOUT ROWID;
     """,
 ]
@@ -111,12 +114,26 @@ class Store:
         self.protocols = self.root / "protocols"
         self.protocols.mkdir(parents=True, exist_ok=True)
         self.database = self.root / "stimlab.sqlite"
+        self._local = threading.local()
         with self.connect() as db:
             db.execute("PRAGMA journal_mode=WAL")
             self.migrate(db)
 
+    def request_connection(self) -> sqlite3.Connection:
+        """This thread's long-lived connection, for web requests.
+
+        Opening and closing a connection per request costs a WAL checkpoint each time the last one closes;
+        one connection per server thread avoids that, and SQLite connections must not cross threads.
+        """
+        db = getattr(self._local, "db", None)
+        if db is None:
+            db = self._local.db = self.connect()
+        if db.in_transaction:  # a request that failed half way: never carry its transaction over
+            db.execute("ROLLBACK")
+        return db
+
     def connect(self) -> sqlite3.Connection:
-        db = sqlite3.connect(self.database, timeout=10, isolation_level=None, check_same_thread=False)
+        db = sqlite3.connect(self.database, timeout=10, isolation_level=None)
         db.row_factory = sqlite3.Row
         db.execute("PRAGMA foreign_keys=ON")
         db.execute("PRAGMA synchronous=NORMAL")

@@ -64,7 +64,11 @@ export class SessionLog {
 
   cut() {
     if (!this.events.length && !this.frames.length) return null;
-    const body = { batch: this.batch++, events: this.events, frames: this.frames };
+    // Frames travel as columns: far less to encode, send and parse than one small list per frame.
+    const columns = ["frame", "t_raf", "t_callback", "trial", "phase", "dropped", "drawn"];
+    const frames = this.frames.length
+      ? Object.fromEntries(columns.map((name, i) => [name, this.frames.map((f) => f[i] ?? null)])) : null;
+    const body = { batch: this.batch++, events: this.events, frames };
     this.events = [];
     this.frames = [];
     this.pending.set(body.batch, body);
