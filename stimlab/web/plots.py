@@ -18,7 +18,7 @@ from ..transfer import transfer_from_dict
 
 __all__ = ["transfer_plot", "dkl_plane_plot", "macleod_boynton_plot", "frame_preview", "device_to_css"]
 
-WIDTH, HEIGHT, MARGIN = 320, 240, 36
+WIDTH, HEIGHT, MARGIN = 320, 240, 44
 COLOURS = {"red": "#c0392b", "green": "#1e8449", "blue": "#2e5cb8"}
 
 
@@ -41,8 +41,8 @@ class _Axes:
     def frame(self, x_ticks, y_ticks, x_label, y_label):
         return {"width": self.width, "height": self.height, "left": self.margin, "right": self.width - self.margin / 2,
                 "top": self.margin / 2, "bottom": self.height - self.margin,
-                "x_ticks": [{"at": self.x(t), "label": f"{t:g}"} for t in x_ticks],
-                "y_ticks": [{"at": self.y(t), "label": f"{t:g}"} for t in y_ticks],
+                "x_ticks": [{"at": self.x(t), "label": f"{t:.3g}"} for t in x_ticks],
+                "y_ticks": [{"at": self.y(t), "label": f"{t:.3g}"} for t in y_ticks],
                 "x_label": x_label, "y_label": y_label}
 
     def polyline(self, xs, ys):

@@ -22,6 +22,10 @@ export class Schedule {
       for (const [condition, state] of Object.entries(progress.staircase)) this.staircases.set(Number(condition), state);
     }
     this.onFinish = () => {};
+    // Benchmark hooks (?measure=1, ?log_frames=0): callback durations, and frame logging switched off.
+    const params = new URLSearchParams(location.search);
+    this.durations = params.get("measure") === "1" ? [] : null;
+    this.logFrames = params.get("log_frames") !== "0";
   }
 
   start() {
@@ -150,9 +154,13 @@ export class Schedule {
     const showFixation = phase.fixation !== false && this.data.fixation;
     this.painter.draw({ background: this.data.background.device, items,
       fixation: showFixation ? this.data.fixation : null });
-    const drawn = items.map((i) => (i.levels ? i.levels.join(",") : "patch")).join(";");
-    this.log.frame([this.frame++, stamp, callbackStart, this.trial.index, phase.phase, dropped ? 1 : 0, drawn]);
+    if (this.logFrames) {
+      const drawn = items.map((i) => (i.levels ? i.levels.join(",") : "patch")).join(";");
+      this.log.frame([this.frame, stamp, callbackStart, this.trial.index, phase.phase, dropped ? 1 : 0, drawn]);
+    }
+    this.frame += 1;
     this.inPhase += 1;
+    if (this.durations) this.durations.push(performance.now() - callbackStart);
     requestAnimationFrame((t) => this.tick(t));
   }
 
