@@ -40,10 +40,13 @@ def install_demo(store) -> list[str]:
     import shutil
 
     added = []
-    with store.connect() as db:
+    db = store.connect()
+    try:
         if not any(d["name"] == DEMO_DISPLAY_NAME for d in store.displays(db)):
             store.add_display(db, demo_profile())
             added.append(DEMO_DISPLAY_NAME)
+    finally:
+        db.close()
     shipped = Path(__file__).resolve().parents[1] / "protocols"
     for path in sorted(shipped.glob("*.json")):
         target = store.protocols / path.name

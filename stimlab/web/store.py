@@ -115,9 +115,12 @@ class Store:
         self.protocols.mkdir(parents=True, exist_ok=True)
         self.database = self.root / "stimlab.sqlite"
         self._local = threading.local()
-        with self.connect() as db:
+        db = self.connect()
+        try:
             db.execute("PRAGMA journal_mode=WAL")
             self.migrate(db)
+        finally:
+            db.close()
 
     def request_connection(self) -> sqlite3.Connection:
         """This thread's long-lived connection, for web requests.
