@@ -197,9 +197,9 @@ def frames_csv(db, session_id: int, out) -> int:
     """
     out.write(",".join(FRAME_COLUMNS) + "\n")
     count = 0
-    for (text,) in db.execute("SELECT columns FROM frames WHERE session_id = ? ORDER BY first_frame, batch",
+    for (text,) in db.execute("SELECT body FROM frames WHERE session_id = ? ORDER BY first_frame, batch",
                               (session_id,)):
-        c = json.loads(text)
+        c = json.loads(text)["frames"]
         out.write("".join(f'{f},{r},{b},{"" if t is None else t},{p or ""},{1 if d else 0},"{w or ""}"\n'
                           for f, r, b, t, p, d, w in zip(*(c[k] for k in FRAME_COLUMNS))))
         count += len(c["frame"])

@@ -94,14 +94,17 @@ def _frame_columns(frames) -> dict | None:
 
 def iter_frames(db, session_id: int):
     """The frame log as (frame, t_raf, t_callback, trial, phase, dropped, drawn) tuples, in frame order."""
-    for (text,) in db.execute("SELECT columns FROM frames WHERE session_id = ? ORDER BY first_frame, batch",
+    for (text,) in db.execute("SELECT body FROM frames WHERE session_id = ? ORDER BY first_frame, batch",
                               (session_id,)):
-        columns = json.loads(text)
+        columns = json.loads(text)["frames"]
         yield from zip(*(columns[c] for c in FRAME_COLUMNS))
 
 
-def ingest_batch(db, session_id: int, batch: dict) -> dict:
-    """Write one batch in one transaction; a batch already stored is acknowledged and ignored."""
+def ingest_batch(db, session_id: int, batch: dict, raw: str | None = None) -> dict:
+    """Write one batch in one transaction; a batch already stored is acknowledged and ignored.
+
+    ``raw``, the request body the batch was parsed from, is stored as it came instead of encoding the frames again.
+    """
     if not isinstance(batch, dict):
         raise InputError("a batch must be a JSON object", field="batch")
     number = _field(batch, "batch", int, "batch")
@@ -116,7 +119,7 @@ def ingest_batch(db, session_id: int, batch: dict) -> dict:
         if frames:
             db.execute("INSERT INTO frames VALUES (?, ?, ?, ?, ?, ?, ?)",
                        (session_id, number, min(frames["frame"]), max(frames["frame"]), count,
-                        sum(1 for d in frames["dropped"] if d), json.dumps(frames, separators=(",", ":"))))
+                        sum(1 for d in frames["dropped"] if d), raw or json.dumps({"frames": frames})))
         db.execute("INSERT INTO batches VALUES (?, ?, ?, ?, ?)", (session_id, number, _now(), len(events), count))
         for event in batch.get("events") or []:
             if event.get("kind") == "session_end":

@@ -152,4 +152,4 @@ def api_batch(session_id: int):
     if row["status"] == "complete":
         raise WebError("this session is complete; it takes no more log batches", "Conflict", 409)
     body = request.get_json(silent=True)
-    return ingest_batch(g.db, session_id, body)
+    return ingest_batch(g.db, session_id, body, request.get_data(as_text=True))

@@ -1,7 +1,7 @@
 """The data folder: one SQLite database (WAL) for displays, sessions and their logs, plus the protocol files.
 
-The frame log is stored as it arrives, one row per batch holding its columns as JSON (frame, t_raf, t_callback,
-trial, phase, dropped, drawn): an hour at 120 Hz is 3,600 rows, not 432,000, which keeps ingest and export fast.
+The frame log is stored as it arrives: one row per batch holding the batch body as received, whose "frames" are
+columns (frame, t_raf, t_callback, trial, phase, dropped, drawn): an hour at 120 Hz is 3,600 rows, not 432,000.
 
 The schema version lives in ``PRAGMA user_version``; :data:`MIGRATIONS` are applied in order on open, each in
 its own transaction, so an older data folder is brought up to date without losing anything.
@@ -75,7 +75,7 @@ MIGRATIONS = [
         last_frame INTEGER NOT NULL,
         count INTEGER NOT NULL,
         dropped INTEGER NOT NULL,
-        columns TEXT NOT NULL,
+        body TEXT NOT NULL,
         PRIMARY KEY (session_id, batch)
     ) WITHOUT ROWID;
     """,
