@@ -253,25 +253,40 @@ def _photosensitivity(findings, compiled, protocol) -> bool:
     if flicker:
         findings.add("photosensitivity", "warn", "protocol", "this protocol flickers. " + CAUTION)
     for condition in compiled.data["conditions"]:
-        result = analyse_condition(compiled, condition["index"], protocol)
-        for key, name in (("general", "general"), ("red_wcag22", "red (WCAG 2.2 / ISO 9241-391)"),
-                          ("red_harding", "red (Harding & Binnie)")):
-            r = result[key]
-            if r["max_flashes_per_second"] <= 3:
-                continue
-            where = f"{condition['label']} / {r['stimulus']}"
-            if r["fails"]:
-                findings.add("photosensitivity", "fail", where,
-                             f"{r['max_flashes_per_second']} {name} flashes in one second (at {r['at_s']:.2f} s) over "
-                             f"{r['flashing_area_sr']:.4f} sr: above WCAG 2.2's 3 flashes and 0.006 sr. Running it "
-                             "needs a recorded acknowledgement and ethics approval reference. " + CAUTION,
-                             definition=key, **r)
-            else:
-                findings.add("photosensitivity", "warn", where,
-                             f"{r['max_flashes_per_second']} {name} flashes per second, but over only "
-                             f"{r['flashing_area_sr']:.4f} sr (≤ 0.006 sr): passes WCAG 2.2 on area", definition=key,
-                             **r)
+        cases = [(analyse_condition(compiled, condition["index"], protocol), "")]
+        response = compiled.responses[condition["index"]]
+        if response is not None and response["kind"] == "adjustment":
+            course = compiled.stimuli[condition["index"]][response["target"]]["time_course"]
+            if course["kind"] != "steady":  # a flickering adjusted target: check the reach of the adjustment too
+                ends = [0, len(response["_RGB"]) - 1]
+                for end in ends:
+                    delta = response["_RGB"][end] - compiled.background.RGB_0
+                    label = f" (adjusted to position {', '.join(f'{p:+g}' for p in response['_grid'][end])})"
+                    cases.append((analyse_condition(compiled, condition["index"], protocol,
+                                                    {response["target"]: delta}), label))
+        for result, label in cases:
+            _flash_findings(findings, result, condition, label)
     return flicker
+
+
+def _flash_findings(findings, result, condition, label):
+    for key, name in (("general", "general"), ("red_wcag22", "red (WCAG 2.2 / ISO 9241-391)"),
+                      ("red_harding", "red (Harding & Binnie)")):
+        r = result[key]
+        if r["max_flashes_per_second"] <= 3:
+            continue
+        where = f"{condition['label']} / {r['stimulus']}{label}"
+        if r["fails"]:
+            findings.add("photosensitivity", "fail", where,
+                         f"{r['max_flashes_per_second']} {name} flashes in one second (at {r['at_s']:.2f} s) over "
+                         f"{r['flashing_area_sr']:.4f} sr: above WCAG 2.2's 3 flashes and 0.006 sr. Running it "
+                         "needs a recorded acknowledgement and ethics approval reference. " + CAUTION,
+                         definition=key, **r)
+        else:
+            findings.add("photosensitivity", "warn", where,
+                         f"{r['max_flashes_per_second']} {name} flashes per second, but over only "
+                         f"{r['flashing_area_sr']:.4f} sr (≤ 0.006 sr): passes WCAG 2.2 on area", definition=key,
+                         **r)
 
 
 def _geometry(findings, compiled):

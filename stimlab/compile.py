@@ -265,6 +265,7 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
         "fixation": _fixation(protocol, background, distance, px_per_cm),
         "schedules": _schedules(protocol, refresh),
         "adaptation_model": protocol.get("adaptation_model"),
+        "photometry": protocol.get("photometry"),
         "conditions": compiled_conditions,
         "trials": trials,
     }

@@ -104,8 +104,11 @@ def _covers(stimulus: dict, point) -> tuple[str | None, float]:
     return "colour", factor
 
 
-def analyse_condition(compiled, condition: int, protocol: dict) -> dict:
-    """Flash counts and flashing area for one condition over a first trial followed by a repeat trial."""
+def analyse_condition(compiled, condition: int, protocol: dict, overrides: dict | None = None) -> dict:
+    """Flash counts and flashing area for one condition over a first trial followed by a repeat trial.
+
+    ``overrides`` maps a stimulus name to the linear-RGB change to use instead of its own (an adjustment's limits).
+    """
     data = compiled.data
     model = compiled.model
     refresh = data["display"]["refresh_hz"]
@@ -134,9 +137,10 @@ def analyse_condition(compiled, condition: int, protocol: dict) -> dict:
                 region, factor = _covers(sources[name], info["point"])
                 if region is None:
                     continue
-                entry = stimuli[name][region]
+                delta = (overrides or {}).get(name) if region == "colour" else None
+                delta = stimuli[name][region]["_delta_RGB"] if delta is None else delta
                 m = modulation(stimuli[name]["time_course"], frames, refresh)
-                RGB = RGB_0 + np.outer(m * factor, entry["_delta_RGB"])
+                RGB = RGB_0 + np.outer(m * factor, delta)
                 break
             pieces[p].append(RGB)
     series = [np.concatenate(piece) if piece else RGB_0[None, :] for piece in pieces]

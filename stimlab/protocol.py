@@ -140,12 +140,36 @@ def _check_references(data: dict, name: str) -> None:
     blocks = data["conditions"].get("blocks")
     if blocks and blocks["by"] not in variables:
         fail(f"blocks.by names {blocks['by']!r}, which is not a condition variable", "conditions", "blocks", "by")
+    photometry = data.get("photometry")
+    if photometry:
+        _check_photometry(data, photometry, names, fail)
     model = data.get("adaptation_model")
     if model:
         keys = ["adapter"] if model["kind"] == "after_image" else ["inducer", "test"]
         for key in keys:
             if model.get(key) not in names:
                 fail(f"{model['kind']} needs {key}: the name of a stimulus", "adaptation_model", key)
+
+
+def _check_photometry(data: dict, photometry: dict, names: dict, fail) -> None:
+    """A flicker-photometry task: a square-flickering L−M stimulus whose luminance component is adjusted."""
+    name = photometry["stimulus"]
+    if name not in names:
+        fail(f"no stimulus called {name!r}", "photometry", "stimulus")
+    stimulus = data["stimuli"][names[name]]
+    dkl = stimulus["colour"].get("dkl")
+    if not (isinstance(dkl, list) and all(isinstance(v, (int, float)) for v in dkl) and dkl[0] == 0 and dkl[2] == 0
+            and dkl[1] != 0 and "scale" not in stimulus["colour"]):
+        fail("the photometry stimulus's colour must be a fixed DKL L−M amplitude, [0, a, 0]", "stimuli",
+             names[name], "colour")
+    if stimulus.get("time_course", {}).get("kind") != "square":
+        fail("flicker photometry needs square-wave flicker (15–20 Hz is common practice)", "stimuli", names[name],
+             "time_course")
+    responses = [p.get("response", {}) for p in data["trial"] if p["phase"] == "respond"]
+    if not responses or responses[0].get("method") != "adjustment" or responses[0].get("target") != name or \
+            responses[0].get("space") != "dkl" or responses[0].get("axis") != [1, 0, 0]:
+        fail(f"flicker photometry adjusts {name!r} along the DKL luminance axis: a respond phase with "
+             "method adjustment, space dkl, axis [1, 0, 0]", "photometry", "stimulus")
 
 
 def _check_colour(colour: dict, variables: dict, fail, *path) -> None:

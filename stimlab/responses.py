@@ -67,6 +67,15 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
     coordinates = base + grid @ axes
     LMS = background.colour_to_LMS(space, coordinates)
     device, inside, RGB = _table(background, LMS)
+    course = stimuli[response["target"]]["time_course"]
+    opposite = None
+    if course["kind"] == "square" and course.get("mode") != "on_off":
+        # A square-flickering target alternates with its opposite about the background: both need levels.
+        from .compile import _device_or_none
+
+        opposite, opposite_inside = _device_or_none(background, 2 * background.RGB_0 - RGB)
+        inside = inside & opposite_inside
+        device = [d if ok else None for d, ok in zip(device, inside)]
     origin = background.colour_to_LMS(space, base)
     axis_LMS = np.array([background.colour_to_LMS(space, base + a) - origin for a in axes])
     start = np.atleast_1d(np.asarray(response.get("start", 0.0), dtype=float))
@@ -88,6 +97,7 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
         "positions": {"low": low, "step": fine, "count": int(positions.size), "dimensions": len(axes)},
         "coarse_step_positions": coarse,
         "device": device,
+        "device_opposite": opposite,
         "in_gamut": inside.tolist(),
         "origin_lms": origin.tolist(),
         "axis_lms": axis_LMS.tolist(),

@@ -225,3 +225,38 @@ def test_flicker_cautions_are_shown_before_a_flickering_protocol_starts(server, 
     message = page.locator("#runner-message").inner_text()
     assert "Photosensitivity" in message and "ethics approval" in message
     page.screenshot(path=str(ARTIFACTS / "runner_caution.png"))
+
+
+def test_flicker_photometry_in_the_runner(server, page):
+    protocol = json.loads((PROTOCOLS / "flicker_photometry.json").read_text())
+    protocol["trial"][0]["duration_s"] = 0.1
+    protocol["conditions"]["repeats"] = 2
+    session_id = start(page, server, protocol, name="hfp.json", participant="P03")
+    open_runner(page, server, session_id)
+    assert "Photosensitivity" in page.locator("#runner-message").inner_text()
+    page.keyboard.press(" ")
+    for _ in range(2):
+        wait_respond(page)
+        trial = page.evaluate("window.stimlabSchedule.trial.index")
+        page.wait_for_timeout(300)  # let it flicker
+        page.keyboard.press("ArrowUp")
+        page.keyboard.press("Enter")
+        page.wait_for_function(f"window.stimlabSchedule.trial?.index !== {trial}")
+    page.wait_for_function("window.stimlabState === 'finished'", timeout=20000)
+    page.wait_for_timeout(700)
+    import sqlite3
+
+    from stimlab.web.logs import iter_frames
+
+    db = sqlite3.connect(server.data / "stimlab.sqlite")
+    drawn = [f[6] for f in iter_frames(db, session_id) if f[4] == "respond"]
+    response = api(page, server, session_id)["compiled"]["conditions"][0]["response"]
+    ladder = {",".join(map(str, d)) for d in response["device"] if d}
+    opposite = {",".join(map(str, d)) for d in response["device_opposite"] if d}
+    assert any(d in ladder for d in drawn) and any(d in opposite for d in drawn)  # it alternated
+    # 15 Hz at 60 Hz: two frames of each state.
+    assert drawn[0] == drawn[1] != drawn[2] == drawn[3]
+    csrf = page.locator('meta[name="csrf-token"]').get_attribute("content")
+    saved = page.request.post(f"{server.url}/api/sessions/{session_id}/observer-adjustment",
+                              headers={"X-CSRF-Token": csrf})
+    assert saved.status == 201 and saved.json()["n"] == 2

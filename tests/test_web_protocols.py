@@ -9,10 +9,11 @@ def headers(client):
 
 def test_list_shows_audit_status(client):
     page = client.get("/protocols")
-    assert page.status_code == 200 and page.text.count("passes") == 4
+    assert page.status_code == 200 and page.text.count("passes") == 5
     listing = client.get("/api/protocols").get_json()
     assert {p["name"] for p in listing["protocols"]} == {"afterimage_null.json", "contrast_match.json",
-                                                         "afterimage_duration.json", "detection_staircase.json"}
+                                                         "afterimage_duration.json", "detection_staircase.json",
+                                                         "flicker_photometry.json"}
     assert all(p["passed"] for p in listing["protocols"])
 
 

@@ -25,13 +25,32 @@ def _read(name: str):
         raise WebError(f"there is no protocol {name!r}; pick one from the list", "Not found", 404) from None
 
 
+def observer_for(protocol: dict):
+    """The observer a protocol asks for: ``None`` (standard, compile picks it) or a stored individual adjustment."""
+    from ..observers import observer
+
+    wanted = protocol["about"]["observer"]
+    if not wanted.startswith("adjusted:"):
+        return None, None
+    code = wanted.split(":", 1)[1]
+    adjustment = current_store().latest_adjustment(g.db, code)
+    if adjustment is None:
+        raise WebError(f"no observer adjustment is stored for participant {code!r}; run the flicker photometry "
+                       "protocol with them and save its result from the session page", field="about.observer")
+    standard = observer(adjustment["standard_observer"])
+    description = (f"flicker photometry, participant {code}, adjustment {adjustment['id']} of "
+                   f"{adjustment['created_at'][:10]} (L/M ratio {adjustment['ratio']:.4f})")
+    return standard.with_luminance_weights(adjustment["w_L"], adjustment["w_M"], description), adjustment["id"]
+
+
 def run_audit(protocol: dict, display_id: int, participant: int = 1) -> tuple[dict, object]:
-    """Compile and audit ``protocol`` on a stored display (cached per protocol and display content)."""
+    """Compile and audit ``protocol`` on a stored display (cached per protocol, display and observer)."""
     display = _get(display_id)
+    obs, adjustment_id = observer_for(protocol)
     cache = current_app.extensions["stimlab.audit_cache"]
-    key = (protocol_sha256(protocol), display["sha256"], participant)
+    key = (protocol_sha256(protocol), display["sha256"], participant, adjustment_id)
     if key not in cache:
-        compiled = compile_protocol(protocol, display["profile"], participant=participant)
+        compiled = compile_protocol(protocol, display["profile"], participant=participant, obs=obs)
         if len(cache) > 64:
             cache.clear()
         cache[key] = (audit_protocol(compiled, protocol, display["profile"]), compiled)

@@ -107,6 +107,59 @@ def histogram_plot(quality: dict) -> dict:
                                 "frames"), "bars": bars, "drop_x": axes.x(1.5 * period)}
 
 
+def photometry_summary(session: dict, rows: list[dict]) -> dict | None:
+    """For a flicker-photometry session: the settings and the L/M weighting they imply."""
+    from ..observers import observer
+    from ..photometry import summarise_settings
+
+    data = session["compiled"]
+    task = data.get("photometry")
+    if not task:
+        return None
+    LMS_0 = np.array(data["background"]["lms"])
+    obs = observer(data["observer"]["key"])
+    stimulus = data["conditions"][0]["stimuli"][task["stimulus"]]
+    amplitude = float(LMS_to_DKL(np.array(stimulus["colour"]["lms"]), LMS_0, obs.w_L, obs.w_M)[1])
+    settings = [float(r["response_position"]) for r in rows if r.get("response_position") not in (None, "")]
+    if len(settings) < 2:
+        return {"settings": settings, "error": "at least two settings are needed"}
+    return summarise_settings(amplitude, settings, LMS_0, obs) | {"standard_observer": obs.key}
+
+
+@blueprint.post("/sessions/<int:session_id>/observer-adjustment")
+def save_adjustment(session_id: int):
+    from flask import redirect, url_for
+
+    _store_adjustment(session_id)
+    return redirect(url_for("sessions.show", session_id=session_id), 303)
+
+
+@blueprint.post("/api/sessions/<int:session_id>/observer-adjustment")
+def api_save_adjustment(session_id: int):
+    adjustment_id, summary = _store_adjustment(session_id)
+    return {"id": adjustment_id, **summary}, 201
+
+
+def _store_adjustment(session_id: int):
+    session = session_or_404(session_id)
+    summary = photometry_summary(session, trial_rows(g.db, session))
+    if summary is None:
+        raise WebError("this session is not a flicker photometry task", field="session")
+    if "error" in summary:
+        raise WebError(f"cannot estimate the observer's weights: {summary['error']}", field="session")
+    adjustment_id = current_store().add_adjustment(g.db, session["participant"], summary["standard_observer"],
+                                                   summary, session_id, session["display_id"])
+    return adjustment_id, summary
+
+
+@blueprint.get("/api/observers/<participant>")
+def api_observer(participant: str):
+    adjustment = current_store().latest_adjustment(g.db, participant)
+    if adjustment is None:
+        raise WebError(f"no observer adjustment is stored for {participant!r}", "Not found", 404)
+    return adjustment
+
+
 @blueprint.get("/sessions/<int:session_id>")
 def show(session_id: int):
     session = session_or_404(session_id)
@@ -114,7 +167,10 @@ def show(session_id: int):
     quality = timing(g.db, session)
     summary = by_condition(session, rows)
     display = current_store().display(g.db, session["display_id"])
+    photometry = photometry_summary(session, rows)
+    saved = current_store().latest_adjustment(g.db, session["participant"]) if photometry else None
     return render_template("session.html", session=session, rows=rows, quality=quality, summary=summary,
+                           photometry=photometry, saved_adjustment=saved,
                            vectors=vectors_plot(summary), histogram=histogram_plot(quality), display=display,
                            progress=progress(g.db, session_id), formats=FORMATS)
 

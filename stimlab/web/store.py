@@ -79,6 +79,21 @@ MIGRATIONS = [
         PRIMARY KEY (session_id, batch)
     ) WITHOUT ROWID;
     """,
+    """
+    CREATE TABLE observer_adjustments (
+        id INTEGER PRIMARY KEY,
+        participant TEXT NOT NULL,
+        standard_observer TEXT NOT NULL,
+        ratio REAL NOT NULL,
+        w_L REAL NOT NULL,
+        w_M REAL NOT NULL,
+        summary TEXT NOT NULL,
+        session_id INTEGER REFERENCES sessions(id),
+        display_id INTEGER REFERENCES displays(id),
+        created_at TEXT NOT NULL
+    );
+    CREATE INDEX adjustments_by_participant ON observer_adjustments (participant, id);
+    """,
 ]
 
 
@@ -219,6 +234,21 @@ class Store:
         temporary.write_text(text, encoding="utf-8")
         os.replace(temporary, path)
         return text_sha256(text)
+
+    # -- observer adjustments -----------------------------------------------------------------------------------
+    def add_adjustment(self, db, participant: str, standard: str, summary: dict, session_id=None,
+                       display_id=None) -> int:
+        cursor = db.execute(
+            "INSERT INTO observer_adjustments (participant, standard_observer, ratio, w_L, w_M, summary, session_id, "
+            "display_id, created_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
+            (participant, standard, summary["ratio"], summary["w_L"], summary["w_M"], json.dumps(summary), session_id,
+             display_id, _now()))
+        return cursor.lastrowid
+
+    def latest_adjustment(self, db, participant: str) -> dict | None:
+        row = db.execute("SELECT * FROM observer_adjustments WHERE participant = ? ORDER BY id DESC LIMIT 1",
+                         (participant,)).fetchone()
+        return {**dict(row), "summary": json.loads(row["summary"])} if row else None
 
     # -- sessions -----------------------------------------------------------------------------------------------
     def sessions(self, db, protocol: str | None = None, participant: str | None = None,

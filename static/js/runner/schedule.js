@@ -102,7 +102,9 @@ export class Schedule {
     const item = { geometry: g, levels: c.colour.device, second: c.second_colour?.device };
     const perPixel = g.shape === "gaussian" || g.shape === "grating";
     if (target && response.kind === "adjustment" && phase.phase === "respond" && this.responder) {
-      item.levels = this.responder.levels();
+      // A flickering adjusted target (flicker photometry) alternates with its opposite about the background.
+      item.levels = m < 0 && response.device_opposite ? response.device_opposite[this.responder.index()]
+        : this.responder.levels();
     } else if (target && response.kind === "staircase") {
       const index = this.staircase(this.trial.condition.index).index;
       item.levels = response.device[index];
