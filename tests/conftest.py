@@ -87,3 +87,21 @@ def browser_type_launch_args():
     from browser_support import CHROMIUM_ARGS
 
     return {"executable_path": "/usr/bin/chromium", "args": CHROMIUM_ARGS}
+
+
+@pytest.fixture
+def browser_context_args(browser_context_args):
+    """Full HD, as the demo display; bypass_csp lets Playwright evaluate its wait conditions (the pages' own
+    scripts still run as served)."""
+    return {**browser_context_args, "viewport": {"width": 1920, "height": 1080},
+            "screen": {"width": 1920, "height": 1080}, "bypass_csp": True}
+
+
+@pytest.fixture
+def server(tmp_path):
+    """A real ``stimlab serve --demo`` on a free port and a fresh data folder, stopped afterwards."""
+    from browser_support import Server
+
+    server = Server(tmp_path / "data").start()
+    yield server
+    server.stop()

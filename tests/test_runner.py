@@ -10,27 +10,12 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from browser_support import Server
 from stimlab.demo_data import demo_profile
 from stimlab.display import DisplayModel
 from stimlab.stimulus import Background
 
 ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
 PROTOCOLS = Path(__file__).parents[1] / "protocols"
-
-
-@pytest.fixture
-def browser_context_args(browser_context_args):
-    # bypass_csp lets Playwright evaluate its wait conditions; the page's own scripts run as served.
-    return {**browser_context_args, "viewport": {"width": 1920, "height": 1080},
-            "screen": {"width": 1920, "height": 1080}, "bypass_csp": True}
-
-
-@pytest.fixture
-def server(tmp_path):
-    server = Server(tmp_path / "data").start()
-    yield server
-    server.stop()
 
 
 def quick_null(adapt_s=0.5):

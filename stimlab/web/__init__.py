@@ -66,8 +66,9 @@ def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool
                                     "script-src 'self'; connect-src 'self'; frame-ancestors 'none'")
         return response
 
-    from . import displays, protocols, runs, sessions
+    from . import calibrations, displays, protocols, runs, sessions
 
+    app.register_blueprint(calibrations.blueprint)
     app.register_blueprint(runs.blueprint)
     app.register_blueprint(displays.blueprint)
     app.register_blueprint(protocols.blueprint)

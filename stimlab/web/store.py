@@ -94,6 +94,27 @@ MIGRATIONS = [
     );
     CREATE INDEX adjustments_by_participant ON observer_adjustments (participant, id);
     """,
+    """
+    CREATE TABLE calibration_runs (
+        id INTEGER PRIMARY KEY,
+        name TEXT NOT NULL,
+        settings TEXT NOT NULL,
+        plan TEXT NOT NULL,
+        spectra TEXT,
+        display_id INTEGER REFERENCES displays(id),
+        result TEXT,
+        created_at TEXT NOT NULL
+    );
+    CREATE TABLE calibration_readings (
+        run_id INTEGER NOT NULL REFERENCES calibration_runs(id),
+        step INTEGER NOT NULL,
+        luminance REAL NOT NULL,
+        x REAL,
+        y REAL,
+        measured_at TEXT NOT NULL,
+        PRIMARY KEY (run_id, step)
+    ) WITHOUT ROWID;
+    """,
 ]
 
 
