@@ -77,3 +77,33 @@ def test_unmeasured_patches_are_named():
     plan = measurement_plan(8, 6)
     with pytest.raises(InputError, match="not measured yet, starting with black"):
         profile_from_readings(plan, [], name="x", bits=8, refresh_hz=60)
+
+
+def test_a_run_with_imported_spectra_through_the_api(client, demo_model):
+    import io
+
+    from stimlab.demo_data import demo_file
+
+    csrf = {"X-CSRF-Token": client.csrf}
+    created = client.post("/calibrations", data={"csrf_token": client.csrf, "name": "Spectral LCD", "bits": "10",
+                                                 "levels": "8", "size_cm": "53.1,29.9", "size_px": "1920,1080"})
+    run_id = int(created.headers["Location"].rsplit("/", 1)[1])
+    run = client.get(f"/api/calibrations/{run_id}").get_json()
+    client.post(f"/calibrations/{run_id}/spectra", content_type="multipart/form-data",
+                data={"csrf_token": client.csrf,
+                      "spectra": (io.BytesIO(demo_file("vale_street_b12_spectra.csv").encode()), "spectra.csv")})
+    early = client.post(f"/api/calibrations/{run_id}/build", json={}, headers=csrf)
+    assert early.status_code == 400 and "not measured yet" in early.get_json()["error"]["message"]
+    bad = client.put(f"/api/calibrations/{run_id}/readings/0", json={"luminance": 0.3, "x": 1.4, "y": 0.3},
+                     headers=csrf)
+    assert bad.status_code == 400 and bad.get_json()["error"]["field"] == "x"
+    for reading in simulated_readings(demo_model, run["plan"]):
+        saved = client.put(f"/api/calibrations/{run_id}/readings/{reading['step']}", headers=csrf,
+                           json={"luminance": reading["luminance"]})  # a photometer: luminance only
+        assert saved.status_code == 200
+    result = client.post(f"/api/calibrations/{run_id}/build", json={}, headers=csrf).get_json()
+    profile = client.get(f"/api/displays/{result['display_id']}").get_json()["profile"]
+    assert profile["primaries"]["kind"] == "spectra"
+    recovered = DisplayModel(profile)
+    assert np.max(np.abs(recovered.level_outputs - demo_model.level_outputs)) < 0.01
+    assert result["validation"]["passed"]  # luminance only: no Δu'v' without x, y
