@@ -5,6 +5,7 @@ import { Painter } from "./runner/paint.js";
 const root = document.getElementById("calibration");
 const runId = Number(root.dataset.run);
 const patch = Number(root.dataset.patch);
+const [offsetX, offsetY] = (root.dataset.offset || "0,0").split(",").map(Number);
 const form = document.getElementById("reading");
 const label = document.getElementById("step-label");
 const status = document.getElementById("reading-status");
@@ -23,7 +24,7 @@ function show() {
   const step = plan[index];
   painter.draw({ background: [0, 0, 0], items: [], fixation: null });
   painter.ctx.fillStyle = painter.css(step.device);
-  const [cx, cy] = painter.centre;
+  const [cx, cy] = painter.at([offsetX, offsetY]);
   painter.ctx.fillRect(cx - patch / 2, cy - patch / 2, patch, patch);
   const done = readings.get(step.step);
   label.textContent = `Patch ${index + 1} of ${plan.length}: ${step.label} (${step.device.join(", ")})`;

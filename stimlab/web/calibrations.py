@@ -37,6 +37,19 @@ def _run(run_id: int) -> dict:
     return run
 
 
+def _pair_signed(text: str, field: str) -> list[int]:
+    """An 'x,y' offset in pixels from the screen centre (right and up positive); empty means centred."""
+    if not text.strip():
+        return [0, 0]
+    try:
+        values = [int(round(float(v))) for v in text.split(",")]
+    except ValueError:
+        raise InputError(f"{text!r} is not two numbers x,y", field=field) from None
+    if len(values) != 2:
+        raise InputError(f"{text!r} is not two numbers x,y", field=field)
+    return values
+
+
 @blueprint.get("/calibrations/new")
 def new():
     display = None
@@ -60,6 +73,7 @@ def create():
                     "size_px": _pair(form.get("size_px", ""), "size_px", int),
                     "measured_by": form.get("measured_by", "").strip(),
                     "patch_px": _number(form, "patch_px", 400, int),
+                    "patch_offset_px": _pair_signed(form.get("patch_offset_px", ""), "patch_offset_px"),
                     "tolerance": {"luminance_percent": _number(form, "tolerance_percent", 2.0),
                                   "delta_uv": _number(form, "tolerance_uv", 0.004)}}
         plan = measurement_plan(bits, _number(form, "levels", 12, int))
