@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import datetime as dt
 import json
+import sqlite3
 
 from .. import __version__
 from ..errors import InputError
@@ -109,18 +110,19 @@ def ingest_batch(db, session_id: int, batch: dict, raw: str | None = None) -> di
         raise InputError("a batch must be a JSON object", field="batch")
     number = _field(batch, "batch", int, "batch")
     events, frames = _rows(session_id, batch)
+    count = len(frames["frame"]) if frames else 0
     db.execute("BEGIN IMMEDIATE")
     try:
-        if db.execute("SELECT 1 FROM batches WHERE session_id = ? AND batch = ?", (session_id, number)).fetchone():
+        try:  # the batch's number is its key: a second copy stops here
+            db.execute("INSERT INTO batches VALUES (?, ?, ?, ?, ?)", (session_id, number, _now(), len(events), count))
+        except sqlite3.IntegrityError:
             db.execute("ROLLBACK")
             return {"batch": number, "duplicate": True}
         db.executemany("INSERT OR IGNORE INTO events VALUES (?, ?, ?, ?, ?, ?, ?)", events)
-        count = len(frames["frame"]) if frames else 0
         if frames:
             db.execute("INSERT INTO frames VALUES (?, ?, ?, ?, ?, ?, ?)",
                        (session_id, number, min(frames["frame"]), max(frames["frame"]), count,
                         sum(1 for d in frames["dropped"] if d), raw or json.dumps({"frames": frames})))
-        db.execute("INSERT INTO batches VALUES (?, ?, ?, ?, ?)", (session_id, number, _now(), len(events), count))
         for event in batch.get("events") or []:
             if event.get("kind") == "session_end":
                 db.execute("UPDATE sessions SET status = 'complete', ended_at = ? WHERE id = ?", (_now(), session_id))

@@ -3,6 +3,7 @@ serve the runner page cross-origin isolated, and take its checks and log batches
 
 from __future__ import annotations
 
+import json
 import re
 
 from flask import Blueprint, g, make_response, redirect, render_template, request, url_for
@@ -134,8 +135,6 @@ def api_show(session_id: int):
 
 @blueprint.post("/api/sessions/<int:session_id>/checks")
 def api_checks(session_id: int):
-    import json
-
     _session(session_id)
     body = request.get_json(silent=True)
     if not isinstance(body, dict):
@@ -151,5 +150,9 @@ def api_batch(session_id: int):
         raise WebError(f"there is no session {session_id}", "Not found", 404)
     if row["status"] == "complete":
         raise WebError("this session is complete; it takes no more log batches", "Conflict", 409)
-    body = request.get_json(silent=True)
-    return ingest_batch(g.db, session_id, body, request.get_data(as_text=True))
+    raw = request.get_data(as_text=True)
+    try:
+        body = json.loads(raw)
+    except ValueError:
+        raise WebError("the batch is not valid JSON", field="batch") from None
+    return ingest_batch(g.db, session_id, body, raw)
