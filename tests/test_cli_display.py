@@ -4,7 +4,6 @@ the file, row and column."""
 import json
 import subprocess
 import sys
-from pathlib import Path
 
 import pytest
 

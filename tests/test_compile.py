@@ -8,7 +8,6 @@ import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
 from stimlab.compile import compile_protocol
-from stimlab.device import device_to_RGB_linear
 from stimlab.errors import InputError
 from stimlab.protocol import validate_protocol
 from stimlab.stimulus import Background

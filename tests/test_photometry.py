@@ -11,7 +11,6 @@ import pytest
 
 from stimlab.audit import audit_protocol
 from stimlab.compile import compile_protocol
-from stimlab.display import DisplayModel
 from stimlab.observers import observer
 from stimlab.photometry import adjusted_weights, null_setting, ratio_from_setting, summarise_settings
 from stimlab.protocol import validate_protocol

@@ -1,6 +1,5 @@
 """One error shape on every route: JSON under /api/, an HTML page elsewhere, never a traceback."""
 
-import pytest
 
 SHAPE = {"status", "title", "message", "field", "file", "row"}
 

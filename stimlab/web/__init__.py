@@ -5,7 +5,7 @@ from __future__ import annotations
 import secrets
 from pathlib import Path
 
-from flask import Flask, g, redirect, render_template, url_for
+from flask import Flask, g, redirect, url_for
 
 from .. import __version__
 from .errors import register_error_handlers

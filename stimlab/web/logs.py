@@ -16,7 +16,6 @@ from ..errors import InputError
 
 __all__ = ["create_session", "get_session", "ingest_batch", "iter_frames", "set_status", "progress", "FRAME_COLUMNS"]
 
-PHASES = ("adapt", "top_up", "gap", "test", "respond", "pause", "check")
 STATUSES = ("running", "interrupted", "complete")
 
 
