@@ -16,11 +16,13 @@ import numpy as np
 
 from . import __version__
 from .spaces import LMS_to_DKL
-from .web.logs import FRAME_COLUMNS, iter_frames
+from .frame_log import FRAME_COLUMNS, FrameBlock
+from .web.logs import frame_blocks, iter_frames
 
 __all__ = ["trial_rows", "session_json", "bids_events", "BIDS_SIDECAR", "frames_csv", "rows_to_csv", "timing"]
 
 AXES = ("L", "M", "S")
+CSV_CHUNK_BLOCKS = 64  # stored blocks formatted together: about a minute of frames, a few MB at most
 DKL = ("lum", "lm", "s")
 
 
@@ -104,10 +106,10 @@ def timing(db, session: dict) -> dict:
     """Frame-timing quality: dropped frames, the frame-interval histogram, onset error per phase."""
     data = session["compiled"]
     period = 1000.0 / data["display"]["refresh_hz"]
-    log = list(iter_frames(db, session["id"]))
-    stamps = np.array([f[1] for f in log if f[4] != "pause"])
-    numbers = np.array([f[0] for f in log], dtype=int)
-    dropped = sum(1 for f in log if f[5])
+    blocks = list(frame_blocks(db, session["id"]))
+    stamps = np.concatenate([b.columns["t_raf"][~b.in_phase("pause")] for b in blocks] or [np.zeros(0)])
+    numbers = np.concatenate([b.columns["frame"].astype(np.int64) for b in blocks] or [np.zeros(0, dtype=np.int64)])
+    dropped = sum(b.dropped for b in blocks)
     intervals = np.diff(stamps) if stamps.size > 1 else np.zeros(0)
     intervals = intervals[intervals < 10 * period]  # gaps from pauses and resumes are not frame intervals
     edges = np.arange(0, 3 * period + 1e-9, period / 8)
@@ -165,7 +167,7 @@ def bids_events(db, session: dict) -> list[dict]:
     """BIDS-style events, one per phase onset: onset, duration, trial_type and our columns."""
     data = session["compiled"]
     events = _events(db, session["id"])
-    first = next(iter_frames(db, session["id"]), (0, 0.0))[1]
+    first = next((float(b.columns["t_raf"][0]) for b in frame_blocks(db, session["id"])), 0.0)
     onsets = [e for e in events if e["kind"] == "phase_onset"]
     ends = {e["trial"]: e for e in events if e["kind"] == "trial_end"}
     rows = []
@@ -197,10 +199,13 @@ def frames_csv(db, session_id: int, out) -> int:
     """
     out.write(",".join(FRAME_COLUMNS) + "\n")
     count = 0
-    for (text,) in db.execute("SELECT body FROM frames WHERE session_id = ? ORDER BY first_frame, batch",
-                              (session_id,)):
-        c = json.loads(text)["frames"]
-        out.write("".join(f'{f},{r},{b},{"" if t is None else t},{p or ""},{1 if d else 0},"{w or ""}"\n'
-                          for f, r, b, t, p, d, w in zip(*(c[k] for k in FRAME_COLUMNS))))
-        count += len(c["frame"])
+    chunk: list = []
+    for block in frame_blocks(db, session_id):
+        chunk.append(block)
+        count += len(block)
+        if len(chunk) == CSV_CHUNK_BLOCKS:
+            out.write(FrameBlock.concatenate(chunk).csv())
+            chunk = []
+    if chunk:
+        out.write(FrameBlock.concatenate(chunk).csv())
     return count

@@ -13,8 +13,9 @@ import sqlite3
 
 from .. import __version__
 from ..errors import InputError
+from ..frame_log import FrameBlock, read_block
 
-__all__ = ["create_session", "get_session", "ingest_batch", "iter_frames", "set_status", "progress", "FRAME_COLUMNS"]
+__all__ = ["create_session", "get_session", "ingest_batch", "frame_blocks", "iter_frames", "set_status", "progress"]
 
 STATUSES = ("running", "interrupted", "complete")
 
@@ -55,61 +56,47 @@ def _field(record, key, kind, where, required=True):
     return value
 
 
-def _rows(session_id: int, batch: dict):
-    """Validated ``events`` rows and ``frames`` columns of one batch; an InputError names the first bad field."""
-    events = []
-    for i, event in enumerate(batch.get("events") or []):
+def _events(session_id: int, batch: dict) -> list[tuple]:
+    """Validated ``events`` rows of one batch; an InputError names the first bad field."""
+    events = batch.get("events") or []
+    if not isinstance(events, list):
+        raise InputError("events must be a list", field="events")
+    rows = []
+    for i, event in enumerate(events):
         where = f"events[{i}]"
         if not isinstance(event, dict):
             raise InputError("each event must be an object", field=where)
-        events.append((session_id, _field(event, "seq", int, where), _field(event, "t", float, where),
-                       _field(event, "kind", str, where), _field(event, "trial", int, where, False),
-                       _field(event, "phase", str, where, False), json.dumps(event.get("data") or {})))
-    frames = _frame_columns(batch.get("frames"))
-    return events, frames
+        rows.append((session_id, _field(event, "seq", int, where), _field(event, "t", float, where),
+                     _field(event, "kind", str, where), _field(event, "trial", int, where, False),
+                     _field(event, "phase", str, where, False), json.dumps(event.get("data") or {})))
+    return rows
 
 
-FRAME_COLUMNS = ("frame", "t_raf", "t_callback", "trial", "phase", "dropped", "drawn")
-
-
-def _frame_columns(frames) -> dict | None:
-    """Check a batch's columnar frame log: equal-length lists, whole frame numbers, numeric times."""
-    if not frames:
-        return None
-    if not isinstance(frames, dict) or not all(isinstance(frames.get(c), list) for c in FRAME_COLUMNS):
-        raise InputError(f"frames must be an object of equal-length lists: {', '.join(FRAME_COLUMNS)}",
-                         field="frames")
-    count = len(frames["frame"])
-    for column in FRAME_COLUMNS:
-        if len(frames[column]) != count:
-            raise InputError(f"frames.{column} has {len(frames[column])} values for {count} frames",
-                             field=f"frames.{column}")
-    if not all(type(v) is int for v in frames["frame"]):
-        raise InputError("frame numbers must be whole numbers", field="frames.frame")
-    for column in ("t_raf", "t_callback"):
-        if not all(type(v) in (int, float) for v in frames[column]):
-            raise InputError("frame times must be numbers (ms)", field=f"frames.{column}")
-    return {c: frames[c] for c in FRAME_COLUMNS}
+def frame_blocks(db, session_id: int):
+    """The session's frame log as :class:`~stimlab.frame_log.FrameBlock` objects, in frame order."""
+    for (data,) in db.execute("SELECT body FROM frames WHERE session_id = ? ORDER BY first_frame, batch",
+                              (session_id,)):
+        yield FrameBlock.from_stored(data)
 
 
 def iter_frames(db, session_id: int):
     """The frame log as (frame, t_raf, t_callback, trial, phase, dropped, drawn) tuples, in frame order."""
-    for (text,) in db.execute("SELECT body FROM frames WHERE session_id = ? ORDER BY first_frame, batch",
-                              (session_id,)):
-        columns = json.loads(text)["frames"]
-        yield from zip(*(columns[c] for c in FRAME_COLUMNS))
+    for block in frame_blocks(db, session_id):
+        yield from block.rows()
 
 
-def ingest_batch(db, session_id: int, batch: dict, raw: str | None = None) -> dict:
+def ingest_batch(db, session_id: int, batch: dict) -> dict:
     """Write one batch in one transaction; a batch already stored is acknowledged and ignored.
 
-    ``raw``, the request body the batch was parsed from, is stored as it came instead of encoding the frames again.
+    A batch is ``{"batch": n, "events": [...], "frames": {...}}``; ``frames`` is a frame block in the packed or
+    the list form of :mod:`stimlab.frame_log`, stored as one binary value.
     """
     if not isinstance(batch, dict):
         raise InputError("a batch must be a JSON object", field="batch")
     number = _field(batch, "batch", int, "batch")
-    events, frames = _rows(session_id, batch)
-    count = len(frames["frame"]) if frames else 0
+    events = _events(session_id, batch)
+    frames = read_block(batch["frames"]) if batch.get("frames") else None
+    count = len(frames) if frames else 0
     db.execute("BEGIN IMMEDIATE")
     try:
         try:  # the batch's number is its key: a second copy stops here
@@ -120,8 +107,8 @@ def ingest_batch(db, session_id: int, batch: dict, raw: str | None = None) -> di
         db.executemany("INSERT OR IGNORE INTO events VALUES (?, ?, ?, ?, ?, ?, ?)", events)
         if frames:
             db.execute("INSERT INTO frames VALUES (?, ?, ?, ?, ?, ?, ?)",
-                       (session_id, number, min(frames["frame"]), max(frames["frame"]), count,
-                        sum(1 for d in frames["dropped"] if d), raw or json.dumps({"frames": frames})))
+                       (session_id, number, frames.first_frame, frames.last_frame, count, frames.dropped,
+                        frames.stored()))
         for event in batch.get("events") or []:
             if event.get("kind") == "session_end":
                 db.execute("UPDATE sessions SET status = 'complete', ended_at = ? WHERE id = ?", (_now(), session_id))

@@ -150,9 +150,8 @@ def api_batch(session_id: int):
         raise WebError(f"there is no session {session_id}", "Not found", 404)
     if row["status"] == "complete":
         raise WebError("this session is complete; it takes no more log batches", "Conflict", 409)
-    raw = request.get_data(as_text=True)
     try:
-        body = json.loads(raw)
+        body = json.loads(request.get_data(as_text=True))
     except ValueError:
         raise WebError("the batch is not valid JSON", field="batch") from None
-    return ingest_batch(g.db, session_id, body, raw)
+    return ingest_batch(g.db, session_id, body)

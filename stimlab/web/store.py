@@ -1,10 +1,11 @@
 """The data folder: one SQLite database (WAL) for displays, sessions and their logs, plus the protocol files.
 
-The frame log is stored as it arrives: one row per batch holding the batch body as received, whose "frames" are
-columns (frame, t_raf, t_callback, trial, phase, dropped, drawn): an hour at 120 Hz is 3,600 rows, not 432,000.
+The frame log is stored one row per batch, its frames a packed block of columns (frame, t_raf, t_callback, trial,
+phase, dropped, drawn) in one binary value (see :mod:`stimlab.frame_log`): an hour at 120 Hz is 3,600 rows, not 432,000.
 
 The schema version lives in ``PRAGMA user_version``; :data:`MIGRATIONS` are applied in order on open, each in
-its own transaction, so an older data folder is brought up to date without losing anything.
+its own transaction, so an older data folder is brought up to date without losing anything. A migration is SQL
+text or a function of the connection (for a change of stored format that SQL cannot express).
 """
 
 from __future__ import annotations
@@ -23,6 +24,24 @@ from ..profile import profile_from_dict
 from ..protocol import parse_protocol
 
 __all__ = ["Store", "MIGRATIONS", "default_data_dir", "safe_protocol_name"]
+
+def _pack_frame_bodies(db: sqlite3.Connection) -> None:
+    """Version 4: frame blocks stored as JSON lists (inside the batch body as received) become binary blocks."""
+    from ..frame_log import read_block
+
+    rows = db.execute("SELECT session_id, batch, body FROM frames").fetchall()
+    for session_id, batch, body in rows:
+        if isinstance(body, bytes):
+            continue
+        lists = json.loads(body)["frames"]
+        for name in ("phase", "drawn"):  # checked only for presence before version 4
+            lists[name] = [None if v is None else str(v) for v in lists[name]]
+        try:
+            packed = read_block(lists).stored()
+        except InputError as error:
+            raise InputError(f"session {session_id}, batch {batch}: {error.message}", field=error.field) from None
+        db.execute("UPDATE frames SET body = ? WHERE session_id = ? AND batch = ?", (packed, session_id, batch))
+
 
 MIGRATIONS = [
     """
@@ -115,6 +134,7 @@ MIGRATIONS = [
         PRIMARY KEY (run_id, step)
     ) WITHOUT ROWID;
     """,
+    _pack_frame_bodies,
 ]
 
 
@@ -184,8 +204,11 @@ class Store:
         for number, script in enumerate(MIGRATIONS[version:], start=version + 1):
             db.execute("BEGIN IMMEDIATE")
             try:
-                for statement in (s for s in script.split(";") if s.strip()):
-                    db.execute(statement)
+                if callable(script):
+                    script(db)
+                else:
+                    for statement in (s for s in script.split(";") if s.strip()):
+                        db.execute(statement)
                 db.execute(f"PRAGMA user_version={number}")
                 db.execute("COMMIT")
             except Exception:
