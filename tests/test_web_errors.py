@@ -1,5 +1,7 @@
 """One error shape on every route: JSON under /api/, an HTML page elsewhere, never a traceback."""
 
+import re
+
 
 SHAPE = {"status", "title", "message", "field", "file", "row"}
 
@@ -21,7 +23,7 @@ def test_every_api_route_answers_errors_in_one_shape(app, client):
     routes = api_routes(app)
     assert len(routes) >= 10
     for rule, method in routes:
-        url = rule.replace("<int:display_id>", "999").replace("<name>", "missing.json")
+        url = re.sub(r"<int:\w+>", "999", rule).replace("<name>", "missing.json").replace("<participant>", "X99")
         headers = {"X-CSRF-Token": client.csrf}
         if method == "GET":
             response = client.get(url)

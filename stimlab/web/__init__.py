@@ -16,6 +16,13 @@ __all__ = ["create_app", "MAX_UPLOAD_BYTES"]
 
 ROOT = Path(__file__).resolve().parents[2]
 MAX_UPLOAD_BYTES = 5 * 1024 * 1024
+SECURITY_HEADERS = (
+    ("X-Content-Type-Options", "nosniff"),
+    ("X-Frame-Options", "DENY"),
+    ("Referrer-Policy", "no-referrer"),
+    ("Content-Security-Policy", "default-src 'self'; img-src 'self' data:; style-src 'self'; script-src 'self'; "
+                                "connect-src 'self'; frame-ancestors 'none'"),
+)
 
 
 def _secret(store: Store) -> str:
@@ -58,12 +65,8 @@ def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool
 
     @app.after_request
     def headers(response):
-        response.headers.setdefault("X-Content-Type-Options", "nosniff")
-        response.headers.setdefault("X-Frame-Options", "DENY")
-        response.headers.setdefault("Referrer-Policy", "no-referrer")
-        response.headers.setdefault("Content-Security-Policy",
-                                    "default-src 'self'; img-src 'self' data:; style-src 'self'; "
-                                    "script-src 'self'; connect-src 'self'; frame-ancestors 'none'")
+        present = {name.lower() for name, _ in response.headers.items()}
+        response.headers.extend((name, value) for name, value in SECURITY_HEADERS if name.lower() not in present)
         return response
 
     from . import calibrations, displays, protocols, runs, sessions

@@ -15,6 +15,7 @@ from .displays import _get as get_display, default_display_id
 from .errors import WebError
 from .logs import create_session, ingest_batch, progress
 from .protocols import _read as read_protocol, run_audit
+from .security import runner_writes
 from .sessions import session_or_404 as _session
 
 blueprint = Blueprint("runs", __name__)
@@ -134,6 +135,7 @@ def api_show(session_id: int):
 
 
 @blueprint.post("/api/sessions/<int:session_id>/checks")
+@runner_writes
 def api_checks(session_id: int):
     _session(session_id)
     body = request.get_json(silent=True)
@@ -144,6 +146,7 @@ def api_checks(session_id: int):
 
 
 @blueprint.post("/api/sessions/<int:session_id>/batches")
+@runner_writes
 def api_batch(session_id: int):
     row = g.db.execute("SELECT status FROM sessions WHERE id = ?", (session_id,)).fetchone()
     if row is None:
