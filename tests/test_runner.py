@@ -86,7 +86,7 @@ def test_a_session_end_to_end(server, page):
     page.wait_for_function("window.stimlabState === 'finished'", timeout=20000)
     ARTIFACTS.mkdir(exist_ok=True)
     page.screenshot(path=str(ARTIFACTS / "runner_finished.png"))
-    page.wait_for_timeout(700)
+    page.wait_for_function("window.stimlabLog.backlog === 0", timeout=10000)
 
     exported = page.request.get(f"{server.url}/sessions/{session_id}/export.csv").text()
     rows = list(csv.DictReader(io.StringIO(exported)))
@@ -168,7 +168,7 @@ def test_a_closed_tab_resumes_at_the_next_unfinished_trial(server, page, context
     wait_respond(page)
     page.keyboard.press("Enter")
     page.wait_for_function("window.stimlabSchedule.trial?.index === 1")
-    page.wait_for_timeout(600)
+    page.wait_for_timeout(1200)  # at least one batch from the second trial reaches the server
     page.close()  # during the second trial
     time.sleep(0.5)
     again = context.new_page()
@@ -180,7 +180,7 @@ def test_a_closed_tab_resumes_at_the_next_unfinished_trial(server, page, context
     assert again.evaluate("window.stimlabSchedule.phase.phase") == "respond"
     again.keyboard.press("Enter")
     again.wait_for_function("window.stimlabState === 'finished'", timeout=20000)
-    again.wait_for_timeout(700)
+    again.wait_for_function("window.stimlabLog.backlog === 0", timeout=10000)
     kinds = [kind for _, kind, _ in events(server, session_id)]
     assert "resumed" in kinds and kinds.count("trial_end") == 2
     adapt_onsets = [data for _, kind, data in events(server, session_id) if kind == "phase_onset"
@@ -228,7 +228,7 @@ def test_flicker_photometry_in_the_runner(server, page):
         page.keyboard.press("Enter")
         page.wait_for_function(f"window.stimlabSchedule.trial?.index !== {trial}")
     page.wait_for_function("window.stimlabState === 'finished'", timeout=20000)
-    page.wait_for_timeout(700)
+    page.wait_for_function("window.stimlabLog.backlog === 0", timeout=10000)
     import sqlite3
 
     from stimlab.web.logs import iter_frames

@@ -1,14 +1,18 @@
 // Talking to the stimlab server: JSON in and out, the CSRF token on every request, one error shape.
 const token = document.querySelector('meta[name="csrf-token"]')?.content ?? "";
 
-export async function send(method, url, body) {
+// A runner writes its session's log with the session's run token and no cookies (stimlab/web/security.py).
+export function requestOptions(method, body, runToken = null) {
+  const headers = { "Content-Type": "application/json" };
+  if (runToken) headers["X-Run-Token"] = runToken;
+  else headers["X-CSRF-Token"] = token;
+  return { method, headers, body, credentials: runToken ? "omit" : "same-origin" };
+}
+
+export async function send(method, url, body, { runToken = null } = {}) {
   let response;
   try {
-    response = await fetch(url, {
-      method,
-      headers: { "Content-Type": "application/json", "X-CSRF-Token": token },
-      body: body === undefined ? undefined : JSON.stringify(body),
-    });
+    response = await fetch(url, requestOptions(method, body === undefined ? undefined : JSON.stringify(body), runToken));
   } catch {
     return { ok: false, status: 0, body: { error: { message: "stimlab is not reachable: is the server still running?" } } };
   }

@@ -1,9 +1,11 @@
-// The session log: numbered events and frame records, sent in numbered batches at least once a second.
+// The session log: numbered events and frame records, sent in numbered batches once a second.
 // Unsent batches live in memory and IndexedDB until the server acknowledges them, so neither a server restart
 // nor a closed tab loses anything; the server ignores a batch number it already has, so retries never duplicate.
-import { send } from "../api.js";
+import { requestOptions, send } from "../api.js";
+import { FrameColumns } from "./frames.js";
 
 const KEEPALIVE_LIMIT = 48 * 1024; // fetch keepalive bodies share a 64 KiB budget: stay well under it
+export const FLUSH_MS = 1000;
 
 function openStore(sessionId) {
   return new Promise((resolve) => {
@@ -26,13 +28,14 @@ function storeOp(db, mode, action) {
 }
 
 export class SessionLog {
-  constructor(sessionId, { nextSeq = 0, nextBatch = 0 } = {}) {
+  constructor(sessionId, { nextSeq = 0, nextBatch = 0, runToken = null } = {}) {
     this.url = `/api/sessions/${sessionId}/batches`;
+    this.runToken = runToken;
     this.sessionId = sessionId;
     this.seq = nextSeq;
     this.batch = nextBatch;
     this.events = [];
-    this.frames = [];
+    this.frames = new FrameColumns();
     this.pending = new Map(); // batch number -> body, until acknowledged
     this.sending = false;
     this.unreachable = false;
@@ -47,7 +50,7 @@ export class SessionLog {
       this.batch = Math.max(this.batch, body.batch + 1);
       for (const e of body.events) this.seq = Math.max(this.seq, e.seq + 1);
     }
-    this.timer = setInterval(() => this.flush(), 500);
+    this.timer = setInterval(() => this.flush(), FLUSH_MS);
     return this;
   }
 
@@ -58,19 +61,15 @@ export class SessionLog {
     return record;
   }
 
-  frame(record) {
-    this.frames.push(record);
+  // One frame: its number, rAF timestamp, performance.now() at the callback's start, trial, phase, dropped, drawn.
+  frame(number, tRaf, tCallback, trial, phase, dropped, drawn = null) {
+    this.frames.push(number, tRaf, tCallback, trial, phase, dropped, drawn);
   }
 
   cut() {
     if (!this.events.length && !this.frames.length) return null;
-    // Frames travel as columns: far less to encode, send and parse than one small list per frame.
-    const columns = ["frame", "t_raf", "t_callback", "trial", "phase", "dropped", "drawn"];
-    const frames = this.frames.length
-      ? Object.fromEntries(columns.map((name, i) => [name, this.frames.map((f) => f[i] ?? null)])) : null;
-    const body = { batch: this.batch++, events: this.events, frames };
+    const body = { batch: this.batch++, events: this.events, frames: this.frames.take() };
     this.events = [];
-    this.frames = [];
     this.pending.set(body.batch, body);
     storeOp(this.db, "readwrite", (s) => s.put(body));
     return body;
@@ -82,7 +81,7 @@ export class SessionLog {
     this.sending = true;
     try {
       for (const [number, body] of [...this.pending].sort((a, b) => a[0] - b[0])) {
-        const result = await send("POST", this.url, body);
+        const result = await send("POST", this.url, body, { runToken: this.runToken });
         if (!result.ok && result.status !== 409) {
           this.unreachable = result.status === 0 || result.status >= 500;
           this.onStatus(this.unreachable ? "unreachable" : "refused", result);
@@ -102,17 +101,16 @@ export class SessionLog {
   flushOnHide() {
     this.cut();
     let budget = KEEPALIVE_LIMIT;
-    const token = document.querySelector('meta[name="csrf-token"]')?.content ?? "";
     for (const body of [...this.pending.values()].sort((a, b) => a.batch - b.batch)) {
       const text = JSON.stringify(body);
       if (text.length > budget) break;
       budget -= text.length;
-      fetch(this.url, { method: "POST", keepalive: true, body: text,
-        headers: { "Content-Type": "application/json", "X-CSRF-Token": token } }).catch(() => {});
+      fetch(this.url, { ...requestOptions("POST", text, this.runToken), keepalive: true }).catch(() => {});
     }
   }
 
+  // Batches and records not yet acknowledged by the server (0: everything logged so far is stored).
   get backlog() {
-    return this.pending.size;
+    return this.pending.size + this.events.length + this.frames.length;
   }
 }

@@ -36,8 +36,9 @@ async function main() {
   if (!loaded.ok) return stop("This session cannot be loaded", loaded.body.error?.message ?? "unknown error");
   const { compiled: data, progress, status } = loaded.body;
   if (status === "complete") return stop("This session is complete", "Start a new session from the Run page.");
+  const runToken = root.dataset.runToken;
   const log = await new SessionLog(sessionId, {
-    nextSeq: (progress.last_seq ?? -1) + 1, nextBatch: (progress.last_batch ?? -1) + 1 }).open();
+    nextSeq: (progress.last_seq ?? -1) + 1, nextBatch: (progress.last_batch ?? -1) + 1, runToken }).open();
   log.onStatus = (state) => {
     root.dataset.link = state;
     if (state === "unreachable") document.getElementById("link-status").hidden = false;
@@ -68,7 +69,7 @@ async function main() {
     user_agent: navigator.userAgent,
   };
   log.event("checks", checks);
-  await send("POST", `/api/sessions/${sessionId}/checks`, checks);
+  await send("POST", `/api/sessions/${sessionId}/checks`, checks, { runToken });
   if (!checks.refresh_agrees) {
     return stop("The refresh rate does not match the display profile",
       `Measured ${refresh.refresh_hz.toFixed(2)} Hz (median frame interval ${refresh.median_interval_ms.toFixed(3)} ms); ` +

@@ -4,6 +4,10 @@
 import { modulation, tableIndex } from "./timecourse.js";
 import { Responder, Staircase } from "./responses.js";
 
+// After entering full screen (at the start and on resuming) the runner shows the background alone for this long
+// before a trial begins, so that no trial frame is drawn while the browser is still switching modes.
+export const SETTLE_S = 0.5;
+
 export class Schedule {
   constructor({ data, painter, log, progress }) {
     this.data = data;
@@ -21,6 +25,8 @@ export class Schedule {
     if (progress.staircase) {
       for (const [condition, state] of Object.entries(progress.staircase)) this.staircases.set(Number(condition), state);
     }
+    this.settleFrames = Math.round(SETTLE_S * data.display.refresh_hz);
+    this.settleLeft = 0;
     this.onFinish = () => {};
     // Benchmark hooks (?measure=1, ?log_frames=0): callback durations, and frame logging switched off.
     const params = new URLSearchParams(location.search);
@@ -29,8 +35,14 @@ export class Schedule {
   }
 
   start() {
+    this.settle();
     this.nextTrial();
     requestAnimationFrame((t) => this.tick(t));
+  }
+
+  settle() {
+    this.settleLeft = this.settleFrames;
+    this.log.event("settle", { frames: this.settleFrames });
   }
 
   staircase(condition) {
@@ -132,10 +144,17 @@ export class Schedule {
     this.lastStamp = stamp;
     if (dropped) {
       this.dropped += 1;
-      this.trialDropped += 1;
+      if (!this.paused && this.settleLeft === 0) this.trialDropped += 1;
     }
     if (this.paused) {
-      this.log.frame([this.frame++, stamp, callbackStart, null, "pause", dropped ? 1 : 0]);
+      this.log.frame(this.frame++, stamp, callbackStart, null, "pause", dropped);
+      requestAnimationFrame((t) => this.tick(t));
+      return;
+    }
+    if (this.settleLeft > 0) {
+      this.settleLeft -= 1;
+      this.painter.draw({ background: this.data.background.device, items: [], fixation: null });
+      this.log.frame(this.frame++, stamp, callbackStart, null, "settle", dropped, this.data.background.device.join(","));
       requestAnimationFrame((t) => this.tick(t));
       return;
     }
@@ -158,7 +177,7 @@ export class Schedule {
       fixation: showFixation ? this.data.fixation : null });
     if (this.logFrames) {
       const drawn = items.map((i) => (i.levels ? i.levels.join(",") : "patch")).join(";");
-      this.log.frame([this.frame, stamp, callbackStart, this.trial.index, phase.phase, dropped ? 1 : 0, drawn]);
+      this.log.frame(this.frame, stamp, callbackStart, this.trial.index, phase.phase, dropped, drawn);
     }
     this.frame += 1;
     this.inPhase += 1;
@@ -219,6 +238,7 @@ export class Schedule {
     if (!this.paused) return;
     this.paused = false;
     this.log.event("resumed", { t: performance.now() });
+    this.settle();
     if (this.nextTrialOnResume) {
       this.nextTrialOnResume = false;
       this.fullAdapt = true;
