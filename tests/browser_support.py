@@ -25,15 +25,19 @@ class Server:
         self.port = port or free_port()
         self.url = f"http://127.0.0.1:{self.port}"
         self.process = None
+        self.log = None
 
     def start(self):
+        # Its output goes to a file: a pipe nobody reads would fill up and stall the server mid-test.
+        self.data.mkdir(parents=True, exist_ok=True)
+        self.log = open(self.data / "serve.log", "ab")
         self.process = subprocess.Popen(
             [sys.executable, "-m", "stimlab.cli", "serve", "--data", str(self.data), "--demo", "--port",
-             str(self.port)], stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True,
-            env={**os.environ, "PYTHONUNBUFFERED": "1"})
+             str(self.port)], stdout=self.log, stderr=subprocess.STDOUT, env={**os.environ, "PYTHONUNBUFFERED": "1"})
         for _ in range(150):
             if self.process.poll() is not None:
-                raise RuntimeError(f"stimlab serve exited with {self.process.returncode}:\n{self.process.stdout.read()}")
+                output = (self.data / "serve.log").read_text(errors="replace")[-4000:]
+                raise RuntimeError(f"stimlab serve exited with {self.process.returncode}:\n{output}")
             try:
                 urllib.request.urlopen(self.url + "/api/", timeout=1)
                 return self
@@ -46,3 +50,6 @@ class Server:
         if self.process and self.process.poll() is None:
             self.process.kill()
             self.process.wait(timeout=10)
+        if self.log:
+            self.log.close()
+            self.log = None
