@@ -112,7 +112,10 @@ def timing(db, session: dict) -> dict:
     dropped = sum(b.dropped for b in blocks)
     intervals = np.diff(stamps) if stamps.size > 1 else np.zeros(0)
     intervals = intervals[intervals < 10 * period]  # gaps from pauses and resumes are not frame intervals
-    edges = np.arange(0, 3 * period + 1e-9, period / 8)
+    # Bins a ninth of a period wide, centred on multiples of it: one bin holds the period itself (16.665 and
+    # 16.670 ms alike at 60 Hz) and an edge falls exactly on the dropped-frame limit of 1.5 periods.
+    width = period / 9
+    edges = np.r_[0.0, (np.arange(28) + 0.5) * width]
     counts, _ = np.histogram(np.clip(intervals, 0, edges[-1] - 1e-9), bins=edges)
     onsets = [e for e in _events(db, session["id"]) if e["kind"] == "phase_onset"]
     errors: dict[str, list] = {}
