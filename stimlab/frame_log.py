@@ -9,8 +9,9 @@ little-endian binary array, with the text columns (phase, drawn) as indices into
      "frame": <uint32>, "t_raf": <float64>, "t_callback": <float64>, "trial": <int32, -1 for none>,
      "phase": <uint16 label index>, "dropped": <uint8 0 or 1>, "drawn": <uint16 label index, 65535 for none>}
 
-Packed, an hour at 120 Hz is about 17 MB of text instead of 25 MB, parsing it costs next to nothing, and the
-exact doubles the browser measured are kept bit for bit. A block can also be given as plain JSON lists, one per
+Packed, an hour at 120 Hz is about 17 MB of text instead of 22–33 MB as JSON lists (as the times need more or
+fewer digits), 13 MB stored; parsing it costs next to nothing, and the exact doubles the browser measured are
+kept bit for bit. A block can also be given as plain JSON lists, one per
 column (``{"frame": [0, 1], "t_raf": [0.0, 16.7], …}``), which is converted to the same columns. Both are
 checked by :func:`read_block`, which names the first bad field.
 

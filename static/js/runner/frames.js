@@ -6,7 +6,8 @@ export const COLUMNS = ["frame", "t_raf", "t_callback", "trial", "phase", "dropp
 const TYPES = { frame: Uint32Array, t_raf: Float64Array, t_callback: Float64Array, trial: Int32Array,
   phase: Uint16Array, dropped: Uint8Array, drawn: Uint16Array };
 const NO_LABEL = 65535;
-const LITTLE_ENDIAN = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
+// Typed arrays use the platform's byte order, little-endian wherever browsers run; the packed form says so.
+if (new Uint8Array(new Uint16Array([1]).buffer)[0] !== 1) throw new Error("the frame log needs a little-endian platform");
 
 const toBase64 = Uint8Array.prototype.toBase64
   ? (bytes) => bytes.toBase64()
@@ -66,22 +67,11 @@ export class FrameColumns {
     const block = { count: this.count, labels: this.labels };
     for (const name of COLUMNS) {
       const values = this.columns[name].subarray(0, this.count);
-      block[name] = LITTLE_ENDIAN ? toBase64(new Uint8Array(values.buffer, 0, values.byteLength)) : null;
+      block[name] = toBase64(new Uint8Array(values.buffer, 0, values.byteLength));
     }
-    if (!LITTLE_ENDIAN) this.asLists(block); // the server also takes plain lists
     this.count = 0;
     this.labels = [];
     this.codes = new Map();
     return block;
-  }
-
-  asLists(block) {
-    delete block.count;
-    delete block.labels;
-    for (const name of COLUMNS) {
-      const values = Array.from(this.columns[name].subarray(0, this.count));
-      block[name] = name === "phase" || name === "drawn" ? values.map((v) => (v === NO_LABEL ? null : this.labels[v]))
-        : name === "trial" ? values.map((v) => (v < 0 ? null : v)) : values;
-    }
   }
 }
