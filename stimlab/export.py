@@ -19,7 +19,8 @@ from .spaces import LMS_to_DKL
 from .frame_log import FRAME_COLUMNS, FrameBlock
 from .web.logs import frame_blocks, iter_frames
 
-__all__ = ["trial_rows", "session_json", "bids_events", "BIDS_SIDECAR", "frames_csv", "rows_to_csv", "timing"]
+__all__ = ["trial_rows", "session_json", "bids_events", "BIDS_SIDECAR", "frames_csv", "frames_csv_chunks", "rows_to_csv",
+           "timing"]
 
 AXES = ("L", "M", "S")
 CSV_CHUNK_BLOCKS = 64  # stored blocks formatted together: about a minute of frames, a few MB at most
@@ -110,6 +111,7 @@ def timing(db, session: dict) -> dict:
     stamps = np.concatenate([b.columns["t_raf"][~b.in_phase("pause")] for b in blocks] or [np.zeros(0)])
     numbers = np.concatenate([b.columns["frame"].astype(np.int64) for b in blocks] or [np.zeros(0, dtype=np.int64)])
     dropped = sum(b.dropped for b in blocks)
+    outside = sum(int(np.count_nonzero(b.columns["dropped"][b.columns["trial"] < 0])) for b in blocks)
     intervals = np.diff(stamps) if stamps.size > 1 else np.zeros(0)
     intervals = intervals[intervals < 10 * period]  # gaps from pauses and resumes are not frame intervals
     # Bins a ninth of a period wide, centred on multiples of it: one bin holds the period itself (16.665 and
@@ -127,7 +129,7 @@ def timing(db, session: dict) -> dict:
         if planned:
             errors.setdefault(b["phase"], []).append((b["t"] - a["t"]) - planned * period)
     gaps = np.flatnonzero(np.diff(numbers) != 1) if numbers.size > 1 else []
-    return {"frames": int(numbers.size), "dropped_frames": int(dropped),
+    return {"frames": int(numbers.size), "dropped_frames": int(dropped), "dropped_outside_trials": outside,
             "median_interval_ms": float(np.median(intervals)) if intervals.size else None,
             "histogram": {"edges_ms": edges.tolist(), "counts": counts.tolist()},
             "onset_error_ms": {k: {"mean": float(np.mean(v)), "max_abs": float(np.max(np.abs(v))), "n": len(v)}
@@ -195,20 +197,26 @@ def events_tsv(rows: list[dict]) -> str:
     return "\n".join(lines) + "\n"
 
 
-def frames_csv(db, session_id: int, out) -> int:
-    """Write the frame log as CSV to a text stream, one stored batch at a time (memory flat); return the count.
-
-    Only ``drawn`` can hold commas and it is quoted; it never holds quotes (digits, ',', ';' and names).
-    """
-    out.write(",".join(FRAME_COLUMNS) + "\n")
-    count = 0
+def frames_csv_chunks(db, session_id: int):
+    """The frame log as CSV text in chunks (the header, then about a minute of frames each): memory stays flat."""
+    yield ",".join(FRAME_COLUMNS) + "\n"
     chunk: list = []
     for block in frame_blocks(db, session_id):
         chunk.append(block)
-        count += len(block)
         if len(chunk) == CSV_CHUNK_BLOCKS:
-            out.write(FrameBlock.concatenate(chunk).csv())
+            yield FrameBlock.concatenate(chunk).csv()
             chunk = []
     if chunk:
-        out.write(FrameBlock.concatenate(chunk).csv())
-    return count
+        yield FrameBlock.concatenate(chunk).csv()
+
+
+def frames_csv(db, session_id: int, out) -> int:
+    """Write the frame log as CSV to a text stream (see :func:`frames_csv_chunks`); return the frame count.
+
+    Only ``drawn`` can hold commas and it is quoted; it never holds quotes (digits, ',', ';' and names).
+    """
+    lines = 0
+    for text in frames_csv_chunks(db, session_id):
+        out.write(text)
+        lines += text.count("\n")
+    return lines - 1

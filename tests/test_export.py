@@ -12,7 +12,8 @@ from stimlab.web.logs import get_session
 
 @pytest.fixture
 def logged(app, client):
-    """A session whose log holds 60 Hz frames at 16.665 and 16.670 ms intervals and one dropped frame."""
+    """A session whose log holds 60 Hz frames at 16.665 and 16.670 ms intervals, one dropped frame in a trial and
+    one flagged outside it (the first frame, before any trial)."""
     created = client.post("/api/sessions", headers={"X-CSRF-Token": client.csrf},
                           json={"protocol": "afterimage_duration.json", "display": 1, "participant": "T01"})
     session_id = created.get_json()["id"]
@@ -20,7 +21,7 @@ def logged(app, client):
     stamps = np.r_[1000.0, 1000.0 + np.cumsum(steps)].round(3).tolist()
     count = len(stamps)
     frames = {"frame": list(range(count)), "t_raf": stamps, "t_callback": [t + 0.05 for t in stamps],
-              "trial": [0] * count, "phase": ["adapt"] * count, "dropped": [0] * 41 + [1] + [0] * 9,
+              "trial": [None] + [0] * (count - 1), "phase": ["adapt"] * count, "dropped": [1] + [0] * 40 + [1] + [0] * 9,
               "drawn": ["512,498,530"] * count}
     answer = client.post(f"/api/sessions/{session_id}/batches", headers={"X-CSRF-Token": client.csrf},
                          json={"batch": 0, "frames": frames})
@@ -34,7 +35,7 @@ def test_the_frame_interval_histogram_puts_the_period_in_one_bin(logged):
     quality = timing(db, session)
     edges, counts = np.array(quality["histogram"]["edges_ms"]), np.array(quality["histogram"]["counts"])
     period = 1000 / 60
-    assert quality["frames"] == 51 and quality["dropped_frames"] == 1
+    assert quality["frames"] == 51 and quality["dropped_frames"] == 2 and quality["dropped_outside_trials"] == 1
     home = np.searchsorted(edges, period) - 1
     assert counts[home] == 49 and edges[home] < 16.665 < 16.670 < edges[home + 1]
     assert np.isclose(edges, 1.5 * period).any()  # no bin straddles the dropped-frame limit
@@ -47,4 +48,15 @@ def test_the_frame_log_csv_has_one_row_per_frame_with_exact_times(logged):
     assert frames_csv(db, session["id"], out) == 51
     rows = list(csv.DictReader(io.StringIO(out.getvalue())))
     assert [float(r["t_raf"]) for r in rows] == stamps
-    assert rows[41]["dropped"] == "1" and rows[0]["drawn"] == "512,498,530" and rows[0]["trial"] == "0"
+    assert rows[41]["dropped"] == "1" and rows[0]["drawn"] == "512,498,530" and rows[0]["trial"] == ""
+
+
+
+def test_the_session_page_streams_the_same_frame_log(logged, client):
+    db, session, _ = logged
+    out = io.StringIO()
+    frames_csv(db, session["id"], out)
+    answer = client.get(f"/sessions/{session['id']}/export.frames")
+    assert answer.status_code == 200 and answer.mimetype == "text/csv"
+    assert answer.headers["Content-Disposition"].endswith('_frames.csv"')
+    assert answer.text == out.getvalue() and answer.text.count("\n") == 52

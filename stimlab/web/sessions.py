@@ -3,13 +3,13 @@ quality and responses, and its exports."""
 
 from __future__ import annotations
 
-import io
 import json
 
 import numpy as np
-from flask import Blueprint, Response, g, render_template, request
+from flask import Blueprint, Response, g, render_template, request, stream_with_context
 
-from ..export import BIDS_SIDECAR, bids_events, events_tsv, frames_csv, rows_to_csv, session_json, timing, trial_rows
+from ..export import (BIDS_SIDECAR, bids_events, events_tsv, frames_csv_chunks, rows_to_csv, session_json, timing,
+                      trial_rows)
 from ..spaces import LMS_to_DKL
 from . import current_store
 from .errors import WebError
@@ -191,12 +191,10 @@ def export(session_id: int, fmt: str):
     if fmt == "sidecar":
         return _download(json.dumps(BIDS_SIDECAR, indent=2), f"sub-{session['participant']}_task-stimlab_"
                          f"run-{session_id}_events.json", "application/json")
-    if fmt == "frames":
-        out = io.StringIO()
-        frames_csv(g.db, session_id, out)
-        return _download(out.getvalue(), f"{stem}_frames.csv", "text/csv")
+    if fmt == "frames":  # streamed: an hour's log is tens of MB
+        return _download(stream_with_context(frames_csv_chunks(g.db, session_id)), f"{stem}_frames.csv", "text/csv")
     raise WebError(f"unknown export format {fmt!r}; choose one of: {', '.join(FORMATS)}", "Not found", 404)
 
 
-def _download(text: str, filename: str, mimetype: str) -> Response:
+def _download(text, filename: str, mimetype: str) -> Response:
     return Response(text, mimetype=mimetype, headers={"Content-Disposition": f'attachment; filename="{filename}"'})
