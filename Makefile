@@ -24,4 +24,5 @@ test: $(STAMP)
 	    echo "/usr/bin/chromium is missing: run 'sudo apt-get install chromium' (browser tests need it)"; exit 1; \
 	  fi; \
 	fi
+	$(VENV)/bin/ruff check stimlab tests benchmarks
 	$(PY) -m pytest

@@ -15,10 +15,10 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from stimlab.audit import audit_protocol  # noqa: E402
-from stimlab.compile import compile_protocol  # noqa: E402
-from stimlab.demo_data import demo_profile  # noqa: E402
-from stimlab.protocol import validate_protocol  # noqa: E402
+from stimlab.audit.preflight import audit_protocol  # noqa: E402
+from stimlab.experiment.compile import compile_protocol  # noqa: E402
+from stimlab.experiment.protocol import validate_protocol  # noqa: E402
+from stimlab.profiles.demo import demo_profile  # noqa: E402
 
 
 def generated(trials: int) -> dict:

@@ -12,21 +12,20 @@ Targets: ratio_vs_bare ≤ 2, ratio_vs_generic ≤ 1/3 (generic ≥ 3× slower),
 
 from __future__ import annotations
 
+import sys
 import time
 import tracemalloc
+from pathlib import Path
 
 import numpy as np
 
-import sys
-from pathlib import Path
-
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from stimlab._colour import colour  # noqa: E402
-from stimlab.demo_data import demo_profile  # noqa: E402
-from stimlab.display import DisplayModel  # noqa: E402
-from stimlab.profile import build_profile, transfer_entry  # noqa: E402
-from stimlab.stimulus import Background  # noqa: E402
+from stimlab.colorimetry._colour import colour  # noqa: E402
+from stimlab.colorimetry.display import DisplayModel  # noqa: E402
+from stimlab.colorimetry.stimulus import Background  # noqa: E402
+from stimlab.profiles.demo import demo_profile  # noqa: E402
+from stimlab.profiles.profile import build_profile, transfer_entry  # noqa: E402
 
 WIDTH, HEIGHT = 1920, 1080
 REPEATS = 9

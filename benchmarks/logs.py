@@ -31,11 +31,11 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 import numpy as np  # noqa: E402
 
-from stimlab.demo_data import install_demo  # noqa: E402
-from stimlab.export import frames_csv  # noqa: E402
-from stimlab.frame_log import FrameBlock  # noqa: E402
+from stimlab.profiles.demo import install_demo  # noqa: E402
+from stimlab.sessions.export import frames_csv  # noqa: E402
+from stimlab.sessions.frame_log import FrameBlock  # noqa: E402
+from stimlab.sessions.ingest import iter_frames  # noqa: E402
 from stimlab.web import create_app  # noqa: E402
-from stimlab.web.logs import iter_frames  # noqa: E402
 
 REFRESH = 120
 FRAMES = int(os.environ.get("BENCH_SECONDS", 3600)) * REFRESH

@@ -27,7 +27,7 @@ sys.path.insert(0, str(ROOT / "tests"))
 from browser_support import CHROMIUM_ARGS, Server  # noqa: E402
 from playwright.sync_api import sync_playwright  # noqa: E402
 
-from stimlab.web.logs import iter_frames  # noqa: E402
+from stimlab.sessions.ingest import iter_frames  # noqa: E402
 
 ADAPT_S = float(os.environ.get("BENCH_ADAPT_S", 60))
 

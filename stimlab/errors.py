@@ -57,6 +57,10 @@ class InputError(ValueError):
         where = self.where()
         return f"{where}: {self.message}" if where else self.message
 
-    def as_dict(self) -> dict:
-        """JSON-able form used by the API's error shape."""
-        return {"message": self.message, "file": self.file, "row": self.row, "field": self.field}
+
+class NotFoundError(InputError):
+    """Something asked for by number or name (a session, a display, a protocol) does not exist."""
+
+
+class ConflictError(InputError):
+    """The request clashes with what is stored (a file changed on disk, a batch key with other content)."""

@@ -20,8 +20,10 @@ def free_port() -> int:
 class Server:
     """``stimlab serve --demo`` on a data folder; its output is shown if it dies before answering."""
 
-    def __init__(self, data, port=None):
+    def __init__(self, data, port=None, python=sys.executable, cwd=None):
         self.data = data
+        self.python = python
+        self.cwd = cwd
         self.port = port or free_port()
         self.url = f"http://127.0.0.1:{self.port}"
         self.process = None
@@ -32,8 +34,9 @@ class Server:
         self.data.mkdir(parents=True, exist_ok=True)
         self.log = open(self.data / "serve.log", "ab")
         self.process = subprocess.Popen(
-            [sys.executable, "-m", "stimlab.cli", "serve", "--data", str(self.data), "--demo", "--port",
-             str(self.port)], stdout=self.log, stderr=subprocess.STDOUT, env={**os.environ, "PYTHONUNBUFFERED": "1"})
+            [self.python, "-m", "stimlab.cli", "serve", "--data", str(self.data), "--demo", "--port",
+             str(self.port)], stdout=self.log, stderr=subprocess.STDOUT, env={**os.environ, "PYTHONUNBUFFERED": "1"},
+            cwd=self.cwd)
         for _ in range(150):
             if self.process.poll() is not None:
                 output = (self.data / "serve.log").read_text(errors="replace")[-4000:]

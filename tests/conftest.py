@@ -3,11 +3,11 @@
 import numpy as np
 import pytest
 
-from stimlab._colour import colour
-from stimlab.demo_data import demo_profile
-from stimlab.display import DisplayModel
-from stimlab.profile import build_profile, transfer_entry
-from stimlab.transfer import sRGB_decode
+from stimlab.colorimetry._colour import colour
+from stimlab.colorimetry.display import DisplayModel
+from stimlab.colorimetry.transfer import sRGB_decode
+from stimlab.profiles.demo import demo_profile
+from stimlab.profiles.profile import build_profile, transfer_entry
 
 # IEC 61966-2-1: primaries and D65 white chromaticities of sRGB.
 SRGB_XY = {"red": (0.64, 0.33), "green": (0.30, 0.60), "blue": (0.15, 0.06)}
@@ -63,7 +63,7 @@ def protocol_named():
 @pytest.fixture
 def app(tmp_path):
     """The web app on a fresh data folder with the demo display and protocols (datasette's make_app_client)."""
-    from stimlab.demo_data import install_demo
+    from stimlab.profiles.demo import install_demo
     from stimlab.web import create_app
 
     app = create_app(tmp_path / "data", testing=True)

@@ -3,7 +3,11 @@
 import numpy as np
 import pytest
 
-from stimlab.adaptation import after_image_cone_contrast, induced_match_cone_contrast, null_cone_contrast
+from stimlab.colorimetry.adaptation import (
+    after_image_cone_contrast,
+    induced_match_cone_contrast,
+    null_cone_contrast,
+)
 
 
 def test_complete_adaptation_hand_values():

@@ -6,10 +6,10 @@ import datetime as dt
 import numpy as np
 import pytest
 
-from stimlab.audit import audit_protocol
-from stimlab.compile import compile_protocol
-from stimlab.protocol import CAUTION, validate_protocol
-from stimlab.stimulus import Background
+from stimlab.audit.preflight import audit_protocol
+from stimlab.colorimetry.stimulus import Background
+from stimlab.experiment.compile import compile_protocol
+from stimlab.experiment.protocol import CAUTION, validate_protocol
 
 TODAY = dt.date(2026, 11, 25)  # the demo display was measured the day before
 

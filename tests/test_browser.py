@@ -7,9 +7,9 @@ import json
 from pathlib import Path
 
 import pytest
-
 from browser_support import Server
-from stimlab.demo_data import demo_file
+
+from stimlab.profiles.demo import demo_file
 
 ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
 

@@ -4,10 +4,16 @@ profile within tolerance; validation and drift report against the lab's toleranc
 import numpy as np
 import pytest
 
-from stimlab._colour import colour
-from stimlab.calibration import drift, measurement_plan, profile_from_readings, recommend_model, validate
-from stimlab.display import DisplayModel
+from stimlab.colorimetry._colour import colour
+from stimlab.colorimetry.display import DisplayModel
 from stimlab.errors import InputError
+from stimlab.profiles.calibration import (
+    drift,
+    measurement_plan,
+    profile_from_readings,
+    recommend_model,
+    validate,
+)
 
 
 def simulated_readings(model, plan, noise=0.002, seed=3, drift_per_step=0.0):
@@ -82,7 +88,7 @@ def test_unmeasured_patches_are_named():
 def test_a_run_with_imported_spectra_through_the_api(client, demo_model):
     import io
 
-    from stimlab.demo_data import demo_file
+    from stimlab.profiles.demo import demo_file
 
     csrf = {"X-CSRF-Token": client.csrf}
     created = client.post("/calibrations", data={"csrf_token": client.csrf, "name": "Spectral LCD", "bits": "10",

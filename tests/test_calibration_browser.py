@@ -7,9 +7,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from stimlab._colour import colour
-from stimlab.demo_data import demo_profile
-from stimlab.display import DisplayModel
+from stimlab.colorimetry._colour import colour
+from stimlab.colorimetry.display import DisplayModel
+from stimlab.profiles.demo import demo_profile
 
 ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
 

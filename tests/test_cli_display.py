@@ -8,7 +8,7 @@ import sys
 import pytest
 
 from stimlab.cli import main
-from stimlab.demo_data import demo_file
+from stimlab.profiles.demo import demo_file
 
 SPECTRA = demo_file("vale_street_b12_spectra.csv")
 TRANSFER = demo_file("vale_street_b12_transfer.csv")

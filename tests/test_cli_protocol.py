@@ -7,7 +7,7 @@ from pathlib import Path
 import pytest
 
 from stimlab.cli import main
-from stimlab.profile import save_profile
+from stimlab.profiles.profile import save_profile
 
 PROTOCOLS = Path(__file__).parents[1] / "protocols"
 

@@ -5,12 +5,13 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import HealthCheck, given, settings, strategies as st
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
-from stimlab.compile import compile_protocol
+from stimlab.colorimetry.stimulus import Background
 from stimlab.errors import InputError
-from stimlab.protocol import validate_protocol
-from stimlab.stimulus import Background
+from stimlab.experiment.compile import compile_protocol
+from stimlab.experiment.protocol import validate_protocol
 
 
 def test_durations_round_to_whole_frames(demo, protocol_named):

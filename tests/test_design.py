@@ -5,7 +5,11 @@ from collections import Counter
 
 import pytest
 
-from stimlab.design import conditions_from_variables, latin_square, trial_order
+from stimlab.experiment.design import (
+    conditions_from_variables,
+    latin_square,
+    trial_order,
+)
 
 
 def test_factorial_conditions():

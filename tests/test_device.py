@@ -2,10 +2,16 @@
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
-from stimlab.device import (RGB_linear_to_device, clip_to_gamut, device_to_RGB_linear, is_within_gamut,
-                            quantisation_cone_contrast)
+from stimlab.colorimetry.device import (
+    RGB_linear_to_device,
+    clip_to_gamut,
+    device_to_RGB_linear,
+    is_within_gamut,
+    quantisation_cone_contrast,
+)
 
 
 def test_nearest_level_in_light_for_every_level(demo_model):
@@ -86,7 +92,7 @@ def test_linear_device_linear_round_trip_within_one_step(demo_model, rgb):
 
 def test_binned_level_search_equals_binary_search_everywhere(demo_model):
     # The fast path must give exactly np.searchsorted's answer, including values on thresholds and at 0 and 1.
-    from stimlab.device import _nearest_levels, _thresholds
+    from stimlab.colorimetry.device import _nearest_levels, _thresholds
 
     rng = np.random.default_rng(11)
     for bits_outputs in (demo_model.level_outputs, np.tile((np.arange(256) / 255.0) ** 2.4, (3, 1))):

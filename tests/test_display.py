@@ -3,10 +3,10 @@
 import numpy as np
 import pytest
 
-from stimlab._colour import colour
-from stimlab.display import DisplayModel, XYZ_to_LMS_matrix
-from stimlab.observers import observer
-from stimlab.profile import primaries_xyY_from_white
+from stimlab.colorimetry._colour import colour
+from stimlab.colorimetry.display import DisplayModel, XYZ_to_LMS_matrix
+from stimlab.colorimetry.observers import observer
+from stimlab.profiles.profile import primaries_xyY_from_white
 
 # IEC 61966-2-1:1999, RGB -> XYZ for sRGB (D65), as published to 4 decimals.
 SRGB_TO_XYZ = np.array([[0.4124, 0.3576, 0.1805],

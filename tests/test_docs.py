@@ -6,7 +6,7 @@ import re
 from pathlib import Path
 
 from stimlab.cli import build_parser
-from stimlab.protocol import protocol_schema
+from stimlab.experiment.protocol import protocol_schema
 
 ROOT = Path(__file__).parents[1]
 

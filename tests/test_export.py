@@ -6,8 +6,8 @@ import io
 import numpy as np
 import pytest
 
-from stimlab.export import frames_csv, timing
-from stimlab.web.logs import get_session
+from stimlab.sessions.export import frames_csv, timing
+from stimlab.sessions.ingest import get_session
 
 
 @pytest.fixture

@@ -4,8 +4,12 @@ general flash and red flash thresholds)."""
 import numpy as np
 import pytest
 
-from stimlab.flashes import (general_flash_transitions, max_flashes_per_second, red_flash_transitions,
-                             turning_points)
+from stimlab.audit.flashes import (
+    general_flash_transitions,
+    max_flashes_per_second,
+    red_flash_transitions,
+    turning_points,
+)
 
 REFRESH = 60.0
 

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from stimlab.errors import InputError
-from stimlab.frame_log import FRAME_COLUMNS, NO_LABEL, FrameBlock, read_block
+from stimlab.sessions.frame_log import FRAME_COLUMNS, NO_LABEL, FrameBlock, read_block
 
 # Doubles as a browser reports them, including ones with no short decimal (0.1 + 0.2) and 5 µs steps.
 TIMES = [16.665, 33.33, 0.1 + 0.2, 1234.5650000000001]

@@ -3,9 +3,9 @@
 import numpy as np
 import pytest
 
-from stimlab.device import is_within_gamut
-from stimlab.gamut import scale_limit
-from stimlab.stimulus import Background
+from stimlab.colorimetry.device import is_within_gamut
+from stimlab.colorimetry.gamut import scale_limit
+from stimlab.colorimetry.stimulus import Background
 
 
 def test_hand_computed_limit():

@@ -4,8 +4,13 @@ import math
 
 import pytest
 
-from stimlab.geometry import (TEN_DEGREE_FIELD_SR, degrees_to_cm, disc_solid_angle, eccentricity_to_cm,
-                              rectangle_solid_angle)
+from stimlab.colorimetry.geometry import (
+    TEN_DEGREE_FIELD_SR,
+    degrees_to_cm,
+    disc_solid_angle,
+    eccentricity_to_cm,
+    rectangle_solid_angle,
+)
 
 
 def test_visual_angle_formula():

@@ -3,8 +3,8 @@
 import numpy as np
 import pytest
 
-from stimlab._colour import colour
-from stimlab.observers import OBSERVERS, observer
+from stimlab.colorimetry._colour import colour
+from stimlab.colorimetry.observers import OBSERVERS, observer
 
 LEFS = colour.colorimetry.SDS_LEFS_PHOTOPIC
 

@@ -9,12 +9,17 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from stimlab.audit import audit_protocol
-from stimlab.compile import compile_protocol
-from stimlab.observers import observer
-from stimlab.photometry import adjusted_weights, null_setting, ratio_from_setting, summarise_settings
-from stimlab.protocol import validate_protocol
-from stimlab.stimulus import Background
+from stimlab.audit.preflight import audit_protocol
+from stimlab.colorimetry.observers import observer
+from stimlab.colorimetry.photometry import (
+    adjusted_weights,
+    null_setting,
+    ratio_from_setting,
+    summarise_settings,
+)
+from stimlab.colorimetry.stimulus import Background
+from stimlab.experiment.compile import compile_protocol
+from stimlab.experiment.protocol import validate_protocol
 
 PROTOCOL = json.loads((Path(__file__).parents[1] / "protocols" / "flicker_photometry.json").read_text())
 SS2 = observer("ss2")

@@ -6,7 +6,12 @@ import json
 import pytest
 
 from stimlab.errors import InputError
-from stimlab.profile import load_profile, profile_hash, profile_warnings, save_profile
+from stimlab.profiles.profile import (
+    load_profile,
+    profile_hash,
+    profile_warnings,
+    save_profile,
+)
 
 
 def test_hash_covers_the_content_and_survives_saving(demo, tmp_path):

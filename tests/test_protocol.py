@@ -5,10 +5,16 @@ import json
 from pathlib import Path
 
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from stimlab.errors import InputError
-from stimlab.protocol import json_path, load_protocol, parse_protocol, validate_protocol
+from stimlab.experiment.protocol import (
+    json_path,
+    load_protocol,
+    parse_protocol,
+    validate_protocol,
+)
 
 PROTOCOLS = sorted((Path(__file__).parents[1] / "protocols").glob("*.json"))
 

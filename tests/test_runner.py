@@ -10,9 +10,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from stimlab.demo_data import demo_profile
-from stimlab.display import DisplayModel
-from stimlab.stimulus import Background
+from stimlab.colorimetry.display import DisplayModel
+from stimlab.colorimetry.stimulus import Background
+from stimlab.profiles.demo import demo_profile
 
 ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
 PROTOCOLS = Path(__file__).parents[1] / "protocols"
@@ -116,7 +116,7 @@ def test_a_session_end_to_end(server, page):
     import sqlite3
 
     db = sqlite3.connect(server.data / "stimlab.sqlite")
-    from stimlab.web.logs import iter_frames
+    from stimlab.sessions.ingest import iter_frames
 
     frames = [(f[0], f[1], f[5]) for f in iter_frames(db, session_id)]
     numbers = [f[0] for f in frames]
@@ -231,7 +231,7 @@ def test_flicker_photometry_in_the_runner(server, page):
     page.wait_for_function("window.stimlabLog.backlog === 0", timeout=10000)
     import sqlite3
 
-    from stimlab.web.logs import iter_frames
+    from stimlab.sessions.ingest import iter_frames
 
     db = sqlite3.connect(server.data / "stimlab.sqlite")
     drawn = [f[6] for f in iter_frames(db, session_id) if f[4] == "respond"]

@@ -5,10 +5,17 @@ import itertools
 import numpy as np
 import pytest
 
-from stimlab.spaces import (DKL_to_LMS, LMS_to_DKL, LMS_to_MacLeod_Boynton, LMS_to_cone_contrast,
-                            MacLeod_Boynton_to_LMS, cone_contrast_to_LMS, matrix_DKL_directions,
-                            matrix_DKL_mechanisms)
-from stimlab.stimulus import COLOUR_SPACES, Background
+from stimlab.colorimetry.spaces import (
+    DKL_to_LMS,
+    LMS_to_cone_contrast,
+    LMS_to_DKL,
+    LMS_to_MacLeod_Boynton,
+    MacLeod_Boynton_to_LMS,
+    cone_contrast_to_LMS,
+    matrix_DKL_directions,
+    matrix_DKL_mechanisms,
+)
+from stimlab.colorimetry.stimulus import COLOUR_SPACES, Background
 
 W_L, W_M = 0.68990272, 0.34832189  # CIE 170-2:2015, 2°
 K_S = 0.0371598

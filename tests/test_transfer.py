@@ -3,8 +3,14 @@
 import numpy as np
 import pytest
 
-from stimlab.transfer import (GainOffsetGammaTransfer, PowerTransfer, TableTransfer, fit_transfer,
-                              sRGB_decode, transfer_from_dict)
+from stimlab.colorimetry.transfer import (
+    GainOffsetGammaTransfer,
+    PowerTransfer,
+    TableTransfer,
+    fit_transfer,
+    sRGB_decode,
+    transfer_from_dict,
+)
 
 
 def test_srgb_curve_known_values():

@@ -3,7 +3,7 @@
 import io
 import json
 
-from stimlab.demo_data import demo_file
+from stimlab.profiles.demo import demo_file
 
 
 def form(**extra):
@@ -46,7 +46,7 @@ def test_api(client, demo):
     displays = client.get("/api/displays").get_json()["displays"]
     assert displays[0]["summary"]["bits"] == 10
     profile = dict(demo, name="Copy")
-    from stimlab.profile import profile_hash
+    from stimlab.profiles.profile import profile_hash
 
     profile["sha256"] = profile_hash(profile)
     created = client.post("/api/displays", json={"profile": profile}, headers={"X-CSRF-Token": client.csrf})
@@ -57,7 +57,7 @@ def test_api(client, demo):
 
 
 def test_a_new_calibration_of_the_same_display_is_a_new_version(client, demo):
-    from stimlab.demo_data import demo_profile
+    from stimlab.profiles.demo import demo_profile
 
     again = demo_profile(measured_on="2026-11-30")
     response = client.post("/api/displays", json={"profile": again}, headers={"X-CSRF-Token": client.csrf})

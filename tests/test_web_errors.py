@@ -2,7 +2,6 @@
 
 import re
 
-
 SHAPE = {"status", "title", "message", "field", "file", "row"}
 
 

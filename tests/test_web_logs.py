@@ -7,9 +7,9 @@ import sqlite3
 
 import pytest
 
-from stimlab.frame_log import read_block
-from stimlab.web.logs import iter_frames
-from stimlab.web.store import MIGRATIONS, Store
+from stimlab.sessions.frame_log import read_block
+from stimlab.sessions.ingest import iter_frames
+from stimlab.sessions.store import MIGRATIONS, Store
 
 
 def frames(first=0, count=3):

@@ -2,7 +2,7 @@
 
 import sqlite3
 
-from stimlab.web.store import MIGRATIONS, Store
+from stimlab.sessions.store import MIGRATIONS, Store
 
 
 def test_new_folder_is_migrated_to_the_latest_schema(tmp_path):
@@ -26,7 +26,7 @@ def test_reopening_keeps_the_data(tmp_path, demo):
 
 def test_a_failing_migration_leaves_the_database_as_it_was(tmp_path, monkeypatch):
     store = Store(tmp_path)
-    monkeypatch.setattr("stimlab.web.store.MIGRATIONS", MIGRATIONS + ["CREATE TABLE broken (", "x"])
+    monkeypatch.setattr("stimlab.sessions.store.MIGRATIONS", MIGRATIONS + ["CREATE TABLE broken (", "x"])
     db = store.connect()
     try:
         Store.migrate(db)

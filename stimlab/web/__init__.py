@@ -3,18 +3,17 @@
 from __future__ import annotations
 
 import secrets
-from pathlib import Path
 
 from flask import Flask, g, redirect, url_for
 
-from .. import __version__
+from ..assets import asset_folder
+from ..sessions.store import Store
+from ..version import __version__
 from .errors import register_error_handlers
 from .security import install_guards
-from .store import Store
 
 __all__ = ["create_app", "MAX_UPLOAD_BYTES"]
 
-ROOT = Path(__file__).resolve().parents[2]
 MAX_UPLOAD_BYTES = 5 * 1024 * 1024
 SECURITY_HEADERS = (
     ("X-Content-Type-Options", "nosniff"),
@@ -44,7 +43,8 @@ def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool
         Host names accepted besides the loopback names (the address given to ``--host``).
     """
     store = Store(data_dir)
-    app = Flask("stimlab", template_folder=str(ROOT / "templates"), static_folder=str(ROOT / "static"))
+    app = Flask("stimlab", template_folder=str(asset_folder("templates")),
+                static_folder=str(asset_folder("static")))
     app.config.update(SECRET_KEY=_secret(store), MAX_CONTENT_LENGTH=MAX_UPLOAD_BYTES, TESTING=testing,
                       SESSION_COOKIE_SAMESITE="Strict", SESSION_COOKIE_HTTPONLY=True,
                       TEMPLATES_AUTO_RELOAD=False)
@@ -53,7 +53,7 @@ def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool
     app.jinja_env.policies["json.dumps_kwargs"] = {"sort_keys": False}
     app.extensions["stimlab.store"] = store
     app.extensions["stimlab.audit_cache"] = {}
-    from ..protocol import enum_for
+    from ..experiment.protocol import enum_for
 
     app.jinja_env.globals.update(version=__version__, enum_for=enum_for)
     install_guards(app, allowed_hosts or set())

@@ -10,12 +10,18 @@ import math
 
 from flask import Blueprint, g, redirect, render_template, request, url_for
 
-from ..calibration import DEFAULT_TOLERANCE, drift, measurement_plan, profile_from_readings, validate
 from ..errors import InputError
-from ..measurements import parse_spectra
+from ..profiles.calibration import (
+    DEFAULT_TOLERANCE,
+    drift,
+    measurement_plan,
+    profile_from_readings,
+    validate,
+)
+from ..profiles.measurements import parse_spectra
 from . import current_store
 from .displays import _number, _pair
-from .errors import WebError
+from .errors import NotFound, WebError
 
 blueprint = Blueprint("calibrations", __name__)
 
@@ -27,7 +33,7 @@ def _now() -> str:
 def _run(run_id: int) -> dict:
     row = g.db.execute("SELECT * FROM calibration_runs WHERE id = ?", (run_id,)).fetchone()
     if row is None:
-        raise WebError(f"there is no calibration run {run_id}", "Not found", 404)
+        raise NotFound(f"there is no calibration run {run_id}")
     run = dict(row)
     for key in ("settings", "plan", "result"):
         run[key] = json.loads(run[key]) if run[key] else None

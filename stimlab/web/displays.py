@@ -4,14 +4,20 @@ from __future__ import annotations
 
 from flask import Blueprint, g, redirect, render_template, request, url_for
 
-from ..display import DisplayModel
+from ..colorimetry.display import DisplayModel
+from ..colorimetry.stimulus import Background
+from ..colorimetry.transfer import TRANSFER_MODELS
 from ..errors import InputError
-from ..measurements import CHANNELS, parse_spectra, parse_transfer
-from ..profile import DEFAULT_MAX_AGE_DAYS, build_profile, profile_age_days, profile_warnings, transfer_entry
-from ..stimulus import Background
-from ..transfer import TRANSFER_MODELS
+from ..profiles.measurements import CHANNELS, parse_spectra, parse_transfer
+from ..profiles.profile import (
+    DEFAULT_MAX_AGE_DAYS,
+    build_profile,
+    profile_age_days,
+    profile_warnings,
+    transfer_entry,
+)
 from . import current_store
-from .errors import WebError
+from .errors import NotFound, WebError
 from .plots import dkl_plane_plot, macleod_boynton_plot, transfer_plot
 
 blueprint = Blueprint("displays", __name__)
@@ -44,7 +50,7 @@ def summary(profile: dict) -> dict:
 def _get(display_id: int) -> dict:
     display = current_store().display(g.db, display_id)
     if display is None:
-        raise WebError(f"there is no display {display_id}; pick one from the list", "Not found", 404)
+        raise NotFound(f"there is no display {display_id}; pick one from the list")
     return display
 
 
@@ -174,7 +180,7 @@ def api_create():
         body = request.get_json(silent=True)
         if not isinstance(body, dict) or "profile" not in body:
             raise WebError("send {\"profile\": {...}} with a profile built by 'stimlab display build'", field="profile")
-        from ..profile import profile_from_dict
+        from ..profiles.profile import profile_from_dict
 
         profile = profile_from_dict(body["profile"], "profile")
     else:

@@ -11,9 +11,9 @@ import logging
 from flask import Flask, jsonify, render_template, request
 from werkzeug.exceptions import HTTPException
 
-from ..errors import InputError
+from ..errors import ConflictError, InputError, NotFoundError
 
-__all__ = ["WebError", "error_body", "register_error_handlers"]
+__all__ = ["NotFound", "WebError", "error_body", "register_error_handlers"]
 
 log = logging.getLogger("stimlab.web")
 
@@ -43,7 +43,18 @@ class WebError(Exception):
 
     @classmethod
     def from_input(cls, error: InputError) -> "WebError":
+        if isinstance(error, NotFoundError):
+            return NotFound(str(error))
+        if isinstance(error, ConflictError):
+            return cls(str(error), "Conflict", 409, field=error.field, file=error.file)
         return cls(str(error), "Invalid input", 400, field=error.field, file=error.file, row=error.row)
+
+
+class NotFound(WebError):
+    """Nothing at this address: a 404 with the message saying what was looked for and where to find it."""
+
+    def __init__(self, message: str):
+        super().__init__(message, "Not found", 404)
 
 
 def error_body(error: WebError) -> dict:

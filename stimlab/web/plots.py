@@ -11,10 +11,10 @@ import math
 
 import numpy as np
 
-from ..gamut import plane_gamut_polygon
-from ..measurements import CHANNELS
-from ..spaces import LMS_to_MacLeod_Boynton
-from ..transfer import transfer_from_dict
+from ..colorimetry.display import CHANNELS
+from ..colorimetry.gamut import plane_gamut_polygon
+from ..colorimetry.spaces import LMS_to_MacLeod_Boynton
+from ..colorimetry.transfer import transfer_from_dict
 
 __all__ = ["transfer_plot", "dkl_plane_plot", "macleod_boynton_plot", "frame_preview", "device_to_css"]
 

@@ -5,15 +5,15 @@ from __future__ import annotations
 import numpy as np
 from flask import Blueprint, current_app, g, render_template, request
 
-from ..audit import audit_protocol
-from ..compile import compile_protocol
+from ..audit.preflight import audit_protocol
 from ..errors import InputError
-from ..protocol import CAUTION, protocol_sha256, validate_protocol
+from ..experiment.compile import compile_protocol
+from ..experiment.protocol import CAUTION, protocol_sha256, validate_protocol
+from ..sessions.store import safe_protocol_name, text_sha256
 from . import current_store
 from .displays import _get, default_display_id
-from .errors import WebError
+from .errors import NotFound, WebError
 from .plots import dkl_plane_plot, frame_preview
-from .store import safe_protocol_name, text_sha256
 
 blueprint = Blueprint("protocols", __name__)
 
@@ -22,12 +22,12 @@ def _read(name: str):
     try:
         return current_store().read_protocol(name)
     except FileNotFoundError:
-        raise WebError(f"there is no protocol {name!r}; pick one from the list", "Not found", 404) from None
+        raise NotFound(f"there is no protocol {name!r}; pick one from the list") from None
 
 
 def observer_for(protocol: dict):
     """The observer a protocol asks for: ``None`` (standard, compile picks it) or a stored individual adjustment."""
-    from ..observers import observer
+    from ..colorimetry.observers import observer
 
     wanted = protocol["about"]["observer"]
     if not wanted.startswith("adjusted:"):

@@ -6,15 +6,25 @@ from __future__ import annotations
 import json
 import re
 
-from flask import Blueprint, g, make_response, redirect, render_template, request, url_for
+from flask import (
+    Blueprint,
+    g,
+    make_response,
+    redirect,
+    render_template,
+    request,
+    url_for,
+)
 
 from ..errors import InputError
-from ..protocol import CAUTION
+from ..experiment.protocol import CAUTION
+from ..sessions.ingest import create_session, ingest_batch, progress
 from . import current_store
-from .displays import _get as get_display, default_display_id
-from .errors import WebError
-from .logs import create_session, ingest_batch, progress
-from .protocols import _read as read_protocol, run_audit
+from .displays import _get as get_display
+from .displays import default_display_id
+from .errors import NotFound, WebError
+from .protocols import _read as read_protocol
+from .protocols import run_audit
 from .security import runner_writes
 from .sessions import session_or_404 as _session
 
@@ -150,7 +160,7 @@ def api_checks(session_id: int):
 def api_batch(session_id: int):
     row = g.db.execute("SELECT status FROM sessions WHERE id = ?", (session_id,)).fetchone()
     if row is None:
-        raise WebError(f"there is no session {session_id}", "Not found", 404)
+        raise NotFound(f"there is no session {session_id}")
     if row["status"] == "complete":
         raise WebError("this session is complete; it takes no more log batches", "Conflict", 409)
     try:

@@ -8,12 +8,20 @@ import json
 import numpy as np
 from flask import Blueprint, Response, g, render_template, request, stream_with_context
 
-from ..export import (BIDS_SIDECAR, bids_events, events_tsv, frames_csv_chunks, rows_to_csv, session_json, timing,
-                      trial_rows)
-from ..spaces import LMS_to_DKL
+from ..colorimetry.spaces import LMS_to_DKL
+from ..sessions.export import (
+    BIDS_SIDECAR,
+    bids_events,
+    events_tsv,
+    frames_csv_chunks,
+    rows_to_csv,
+    session_json,
+    timing,
+    trial_rows,
+)
+from ..sessions.ingest import get_session, progress
 from . import current_store
-from .errors import WebError
-from .logs import get_session, progress
+from .errors import NotFound, WebError
 from .plots import _Axes
 
 blueprint = Blueprint("sessions", __name__)
@@ -32,7 +40,7 @@ def _filters() -> dict:
 def session_or_404(session_id: int) -> dict:
     session = get_session(g.db, session_id)
     if session is None:
-        raise WebError(f"there is no session {session_id}; pick one from the list", "Not found", 404)
+        raise NotFound(f"there is no session {session_id}; pick one from the list")
     return session
 
 
@@ -109,8 +117,8 @@ def histogram_plot(quality: dict) -> dict:
 
 def photometry_summary(session: dict, rows: list[dict]) -> dict | None:
     """For a flicker-photometry session: the settings and the L/M weighting they imply."""
-    from ..observers import observer
-    from ..photometry import summarise_settings
+    from ..colorimetry.observers import observer
+    from ..colorimetry.photometry import summarise_settings
 
     data = session["compiled"]
     task = data.get("photometry")
@@ -156,7 +164,7 @@ def _store_adjustment(session_id: int):
 def api_observer(participant: str):
     adjustment = current_store().latest_adjustment(g.db, participant)
     if adjustment is None:
-        raise WebError(f"no observer adjustment is stored for {participant!r}", "Not found", 404)
+        raise NotFound(f"no observer adjustment is stored for {participant!r}")
     return adjustment
 
 
@@ -193,7 +201,7 @@ def export(session_id: int, fmt: str):
                          f"run-{session_id}_events.json", "application/json")
     if fmt == "frames":  # streamed: an hour's log is tens of MB
         return _download(stream_with_context(frames_csv_chunks(g.db, session_id)), f"{stem}_frames.csv", "text/csv")
-    raise WebError(f"unknown export format {fmt!r}; choose one of: {', '.join(FORMATS)}", "Not found", 404)
+    raise NotFound(f"unknown export format {fmt!r}; choose one of: {', '.join(FORMATS)}")
 
 
 def _download(text, filename: str, mimetype: str) -> Response:

@@ -10,7 +10,7 @@ from pathlib import Path
 
 import numpy as np
 
-from stimlab.observers import K_M, observer
+from stimlab.colorimetry.observers import K_M, observer
 
 HERE = Path(__file__).parent
 WAVELENGTHS = np.arange(380.0, 782.0, 2.0)

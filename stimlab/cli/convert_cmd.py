@@ -1,0 +1,80 @@
+"""``stimlab convert``: one colour, given in cone contrast, DKL or linear RGB, in every space and as device RGB."""
+
+from __future__ import annotations
+
+from ..colorimetry.display import DisplayModel
+from ..colorimetry.observers import OBSERVERS
+from ..colorimetry.stimulus import Background
+from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, load_profile, profile_warnings
+from .output import print_json
+
+
+def register(sub, numbers) -> None:
+    convert = sub.add_parser("convert", help="convert one colour to device RGB and every other space")
+    convert.add_argument("--display", required=True, metavar="PROFILE.json", help="display profile")
+    convert.add_argument("--observer", choices=OBSERVERS, default="ss2", help="observer (default ss2)")
+    background = convert.add_mutually_exclusive_group()
+    background.add_argument("--background", type=numbers(3), default=[0.5, 0.5, 0.5], metavar="R,G,B",
+                            help="background in linear RGB (default 0.5,0.5,0.5)")
+    background.add_argument("--background-mb", type=numbers(3), metavar="l,s,cd",
+                            help="background as MacLeod–Boynton l, s and luminance in cd/m²")
+    colour = convert.add_mutually_exclusive_group(required=True)
+    colour.add_argument("--cone-contrast", type=numbers(3), metavar="cL,cM,cS", help="cone contrast")
+    colour.add_argument("--dkl", type=numbers(3), metavar="lum,lm,s",
+                        help="DKL, pooled-cone-contrast normalisation")
+    colour.add_argument("--rgb", type=numbers(3), metavar="r,g,b", help="linear RGB (0..1 above black)")
+    colour.add_argument("--mb", type=numbers(3), metavar="l,s,cd", help="MacLeod–Boynton l, s and luminance")
+    convert.add_argument("--max-age-days", type=int, default=DEFAULT_MAX_AGE_DAYS,
+                         help=f"warn when the profile is older than this (default {DEFAULT_MAX_AGE_DAYS})")
+    convert.add_argument("--json", action="store_true", help="print one JSON object")
+    convert.set_defaults(run=run)
+
+
+def run(args) -> int:
+    profile = load_profile(args.display)
+    model = DisplayModel(profile, args.observer)
+    if args.background_mb:
+        background = Background.from_MacLeod_Boynton(model, *args.background_mb, field="--background-mb")
+    else:
+        background = Background(model, args.background, field="--background")
+    for option, space in (("cone_contrast", "cone_contrast"), ("dkl", "dkl"), ("rgb", "rgb_linear"),
+                          ("mb", "macleod_boynton")):
+        values = getattr(args, option)
+        if values is not None:
+            LMS = background.colour_to_LMS(space, values)
+    result = background.describe(LMS)
+    result["warnings"] = profile_warnings(profile, args.max_age_days)
+    if args.json:
+        print_json(result)
+    else:
+        print_table(result)
+    return 0
+
+
+def _row(label, values, fmt="{:+.5f}"):
+    return f"  {label:31s}" + "  ".join(fmt.format(v).rjust(11) for v in values)
+
+
+def print_table(r: dict) -> None:
+    print(f"display {r['display_name']} (sha256 {r['display_hash'][:12]}…), observer {r['observer']}")
+    print(_row("background linear RGB", r["background_rgb_linear"], "{:.5f}"))
+    print(_row("", ("L / lum / R", "M / L−M / G", "S / S / B"), "{}"))
+    print(_row("cone contrast", r["cone_contrast"]))
+    print(_row("DKL (pooled cone contrast)", r["dkl"]))
+    print(_row("DKL (fraction of display max)", r["dkl_display_maximum"]))
+    print(_row("LMS", r["lms"], "{:.4f}"))
+    print(_row("MacLeod–Boynton l, s", r["macleod_boynton"], "{:.6f}"))
+    print(_row("CIE 1931 xyY", r["xyY"], "{:.4f}"))
+    print(_row("linear RGB", r["rgb_linear"], "{:.6f}"))
+    print(f"  {'luminance':31s}{r['luminance_cd_m2']:11.3f} cd/m²")
+    if r["in_gamut"]:
+        print(_row("device RGB", r["rgb_device"], "{:d}"))
+        print(_row("one level, in cone contrast", r["quantisation_cone_contrast"], "{:.5f}"))
+        print(f"  in gamut: yes; this direction can be scaled ×{r['max_scale_in_gamut']:.3f} before the "
+              f"{r['limiting_channel'] or 'no'} channel limits it")
+    else:
+        over = ", ".join(f"{c} {v:+.4f}" for c, v in r["out_of_gamut"].items())
+        print(f"  OUT OF GAMUT: {over} beyond 0..1 in linear RGB; no device values given (not clipped). "
+              f"The same direction fits at ×{r['max_scale_in_gamut']:.3f} of this contrast.")
+    for warning in r["warnings"]:
+        print(f"  WARNING: {warning}")

@@ -1,0 +1,136 @@
+"""``stimlab display build`` and ``stimlab display show``."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+from ..colorimetry.display import DisplayModel
+from ..colorimetry.observers import OBSERVERS
+from ..colorimetry.stimulus import Background
+from ..colorimetry.transfer import TRANSFER_MODELS
+from ..errors import InputError
+from ..profiles.measurements import (
+    CHANNELS,
+    parse_black,
+    parse_spectra,
+    parse_transfer,
+    read_text,
+)
+from ..profiles.profile import (
+    DEFAULT_MAX_AGE_DAYS,
+    build_profile,
+    load_profile,
+    profile_age_days,
+    profile_warnings,
+    save_profile,
+    transfer_entry,
+)
+
+
+def register(sub, numbers) -> None:
+    display = sub.add_parser("display", help="build or inspect a display profile")
+    actions = display.add_subparsers(dest="action", metavar="ACTION", required=True)
+
+    build = actions.add_parser("build", help="build a profile from measurement files")
+    source = build.add_mutually_exclusive_group(required=True)
+    source.add_argument("--spectra", metavar="FILE.csv",
+                        help="primary spectra: wavelength_nm,red,green,blue[,black] in W/sr/m²/nm")
+    source.add_argument("--primaries-xyY", metavar="x,y,Y;x,y,Y;x,y,Y", type=numbers(9),
+                        help="CIE 1931 xyY of red, green, blue at full drive when no spectra exist (approximate)")
+    build.add_argument("--transfer", metavar="FILE.csv", required=True,
+                       help="transfer measurements: channel,level,luminance_cd_m2")
+    build.add_argument("--black", metavar="FILE.csv", help="black spectrum: wavelength_nm,black")
+    build.add_argument("--black-xyY", metavar="x,y,Y", type=numbers(3),
+                       help="CIE 1931 xyY of black, with --primaries-xyY")
+    build.add_argument("--bits", type=int, default=8, help="bits per channel (default 8)")
+    build.add_argument("--refresh", type=float, default=60.0, help="refresh rate in Hz (default 60)")
+    build.add_argument("--size-cm", type=numbers(2), metavar="W,H", help="visible screen size in cm")
+    build.add_argument("--size-px", type=numbers(2), metavar="W,H", help="screen size in pixels")
+    build.add_argument("--model", choices=tuple(TRANSFER_MODELS), default="gog",
+                       help="transfer model the profile uses (default gog); all are fitted and compared")
+    build.add_argument("--name", required=True, help="the display's name")
+    build.add_argument("--measured-by", default="", help="who measured the display")
+    build.add_argument("--measured-on", metavar="YYYY-MM-DD", help="date of the measurements (default today)")
+    build.add_argument("-o", "--output", required=True, metavar="PROFILE.json", help="where to write the profile")
+    build.set_defaults(run=run_build)
+
+    show = actions.add_parser("show", help="summarise a profile")
+    show.add_argument("profile", metavar="PROFILE.json")
+    show.add_argument("--observer", choices=OBSERVERS, default="ss2", help="observer (default ss2)")
+    show.add_argument("--max-age-days", type=int, default=DEFAULT_MAX_AGE_DAYS,
+                      help=f"warn when the profile is older than this (default {DEFAULT_MAX_AGE_DAYS})")
+    show.set_defaults(run=run_show)
+
+
+def run_build(args) -> int:
+    spectra = chromaticities = None
+    if args.spectra:
+        wavelengths, primaries, black = parse_spectra(read_text(args.spectra), name=args.spectra)
+        if args.black:
+            black_wl, black = parse_black(read_text(args.black), name=args.black)
+            if black_wl.shape != wavelengths.shape or not np.allclose(black_wl, wavelengths):
+                raise InputError("black spectrum must use the same wavelengths as the primaries", file=args.black,
+                                 field="wavelength_nm")
+        spectra = (wavelengths, primaries, black)
+    else:
+        values = args.primaries_xyY
+        chromaticities = {c: values[3 * i:3 * i + 3] for i, c in enumerate(CHANNELS)}
+        if args.black_xyY:
+            chromaticities["black"] = args.black_xyY
+    transfer_text = read_text(args.transfer)
+    measurements = parse_transfer(transfer_text, args.bits, name=args.transfer)
+    transfer = {}
+    for channel, (levels, luminance) in measurements.items():
+        try:
+            transfer[channel] = transfer_entry(levels, luminance, args.bits, args.model)
+        except InputError as error:
+            raise InputError(f"channel {channel}: {error.message}", file=args.transfer) from None
+    profile = build_profile(args.name, transfer=transfer, bits=args.bits, refresh_hz=args.refresh,
+                            spectra=spectra, chromaticities=chromaticities, size_cm=args.size_cm,
+                            size_px=args.size_px, measured_by=args.measured_by, measured_on=args.measured_on)
+    Path(args.output).parent.mkdir(parents=True, exist_ok=True)
+    save_profile(profile, args.output)
+    model = DisplayModel(profile)
+    print(f"wrote {args.output}: {profile['name']}, white {model.white_luminance:.2f} cd/m², "
+          f"sha256 {profile['sha256'][:12]}")
+    for channel in CHANNELS:
+        entry = profile["transfer"][channel]
+        print(f"  {channel:5s} {entry['model']} fit: rms {entry['rms']:.4f}, max {entry['max_abs']:.4f} "
+              "(fraction of full output)")
+    for note in profile["notes"]:
+        print(f"  note: {note}")
+    return 0
+
+
+def run_show(args) -> int:
+    profile = load_profile(args.profile)
+    model = DisplayModel(profile, args.observer)
+    background = Background(model, [0.5, 0.5, 0.5])
+    print(f"{profile['name']}  (sha256 {profile['sha256'][:12]}…)")
+    print(f"  measured by {profile.get('measured_by') or 'unknown'} on {profile['measured_on']}, "
+          f"{profile_age_days(profile)} days ago")
+    px = profile.get("size_px") or ["?", "?"]
+    cm = profile.get("size_cm") or ["?", "?"]
+    print(f"  {profile['bits']} bits, {profile['refresh_hz']:g} Hz, {px[0]}×{px[1]} px, {cm[0]}×{cm[1]} cm")
+    print(f"  white {model.white_luminance:.2f} cd/m², black {model.black_luminance:.3f} cd/m² "
+          f"(observer {model.observer.key})")
+    print("  primaries (CIE 1931 xy):")
+    for channel, (x, y) in zip(CHANNELS, model.primaries_xy()):
+        print(f"    {channel:5s} x {x:.4f}  y {y:.4f}")
+    print("  transfer fits (residual as fraction of full output):")
+    for channel in CHANNELS:
+        entry = profile["transfer"][channel]
+        others = ", ".join(f"{k} {v['rms']:.4f}" for k, v in entry["alternatives"].items())
+        params = ", ".join(f"{k} {v:.4g}" for k, v in entry["parameters"].items() if not isinstance(v, list))
+        print(f"    {channel:5s} {entry['model']} ({params or 'table'}) rms {entry['rms']:.4f}; others: {others}")
+    print("  largest contrast along each DKL axis from the mid-grey background (pooled cone contrast):")
+    for axis, (low, high) in zip(("lum", "L-M", "S"), background.DKL_limits):
+        print(f"    {axis:4s} {low:+.4f} … {high:+.4f}")
+    described = background.describe(background.LMS_0)
+    q = described["quantisation_cone_contrast"]
+    print(f"  one digital level at the background = cone contrast L {q[0]:.5f}, M {q[1]:.5f}, S {q[2]:.5f}")
+    for warning in profile_warnings(profile, args.max_age_days):
+        print(f"  WARNING: {warning}")
+    return 0

@@ -1,0 +1,137 @@
+"""One display seen by one observer: linear RGB to cone excitations and CIE XYZ, and the transfer curves.
+
+Linear RGB is the fraction of each primary's full-drive radiance above black (0..1). The light of a colour is
+``B(λ) + Σ rgb_i·P_i(λ)``, so ``LMS = LMS_black + M_LMS · rgb`` with ``M_LMS``'s columns the cone excitations of
+the primaries, and likewise for CIE 1931 XYZ. Luminance (cd/m²) is ``w_L·L + w_M·M`` with the observer's weights
+(CIE 170-2:2015), which for the Stockman & Sharpe fundamentals is the CIE 2008 physiologically relevant V(λ).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ._colour import colour
+from .observers import K_M, Observer
+from .observers import observer as standard_observer
+from .spaces import as_triplets
+from .transfer import transfer_from_dict
+
+__all__ = ["CHANNELS", "DisplayModel", "XYZ_to_LMS_matrix", "resample"]
+
+CHANNELS = ("red", "green", "blue")
+"""The display's channels, in the order of every RGB triplet."""
+
+
+def resample(wavelengths, values, grid) -> np.ndarray:
+    """Linear interpolation of spectra onto ``grid``, zero outside the measured range.
+
+    Linear rather than Sprague interpolation: measured spectra are noisy, and a higher-order interpolant would
+    ring and go negative around narrow emission lines.
+    """
+    values = np.asarray(values, dtype=float)
+    columns = values if values.ndim == 2 else values[:, None]
+    out = np.stack([np.interp(grid, wavelengths, c, left=0.0, right=0.0) for c in columns.T], axis=-1)
+    return out if values.ndim == 2 else out[:, 0]
+
+
+def _cmfs_1931(grid) -> np.ndarray:
+    cmfs = colour.colorimetry.MSDS_CMFS_STANDARD_OBSERVER["CIE 1931 2 Degree Standard Observer"]
+    return resample(cmfs.wavelengths, cmfs.values, grid)
+
+
+def XYZ_to_LMS_matrix(obs: Observer) -> np.ndarray:
+    """Least-squares 3×3 matrix from CIE 1931 XYZ to the observer's cone excitations.
+
+    Fitted over the spectrum so that ``l̄m̄s̄(λ) ≈ T · x̄ȳz̄(λ)``. Only used for profiles given as xyY, where it is
+    an approximation (the 1931 observer and the cone fundamentals are not linear transforms of each other).
+    """
+    xyz = _cmfs_1931(obs.wavelengths)
+    solution, *_ = np.linalg.lstsq(xyz, obs.lms, rcond=None)
+    return solution.T
+
+
+class DisplayModel:
+    """A display profile bound to an observer.
+
+    Parameters
+    ----------
+    profile
+        A checked profile dict (:func:`stimlab.profiles.profile.load_profile`).
+    obs
+        The observer, or its key (default ``ss2``).
+
+    Attributes
+    ----------
+    M_LMS : ndarray (3, 3)
+        Columns: L, M, S of each primary at full drive above black.
+    LMS_black : ndarray (3,)
+        Cone excitations of the all-zero drive.
+    M_XYZ, XYZ_black
+        The same in CIE 1931 XYZ (Y in cd/m²).
+    transfers : tuple
+        Fitted transfer model per channel.
+    level_outputs : ndarray (3, 2^bits)
+        Normalised output of every digital level of every channel.
+    """
+
+    def __init__(self, profile: dict, obs: Observer | str = "ss2"):
+        self.profile = profile
+        self.observer = standard_observer(obs) if isinstance(obs, str) else obs
+        self.bits = int(profile["bits"])
+        self.d_max = 2**self.bits - 1
+        self.sha256 = profile["sha256"]
+        self.is_approximate = profile["primaries"]["kind"] == "chromaticities"
+        self._primaries(profile["primaries"])
+        self.transfers = tuple(transfer_from_dict(profile["transfer"][c]) for c in CHANNELS)
+        x = np.arange(self.d_max + 1) / self.d_max
+        self.level_outputs = np.stack([t.forward(x) for t in self.transfers])
+        self.M_LMS_inverse = np.linalg.inv(self.M_LMS)
+
+    def _primaries(self, primaries: dict) -> None:
+        obs = self.observer
+        if primaries["kind"] == "spectra":
+            wavelengths = np.asarray(primaries["wavelength_nm"])
+            spectra = resample(wavelengths, np.array([primaries[c] for c in CHANNELS + ("black",)]).T,
+                               obs.wavelengths)
+            lms = obs.spectra_to_LMS(spectra.T)
+            xyz = K_M * obs.interval * spectra.T @ _cmfs_1931(obs.wavelengths)
+            self.M_LMS, self.LMS_black = lms[:3].T, lms[3]
+            self.M_XYZ, self.XYZ_black = xyz[:3].T, xyz[3]
+        else:
+            xyz = np.array([colour.xyY_to_XYZ(primaries[c]) for c in CHANNELS + ("black",)])
+            lms = xyz @ XYZ_to_LMS_matrix(obs).T
+            self.M_XYZ, self.XYZ_black = xyz[:3].T, xyz[3]
+            self.M_LMS, self.LMS_black = lms[:3].T, lms[3]
+
+    # Linear RGB <-> cone excitations and CIE XYZ ------------------------------------------------------------
+    def RGB_linear_to_LMS(self, RGB) -> np.ndarray:
+        """Cone excitations of linear RGB, shape (..., 3)."""
+        return as_triplets(RGB, "RGB") @ self.M_LMS.T + self.LMS_black
+
+    def LMS_to_RGB_linear(self, LMS) -> np.ndarray:
+        """Linear RGB that produces the cone excitations ``LMS`` (may lie outside 0..1)."""
+        return (as_triplets(LMS, "LMS") - self.LMS_black) @ self.M_LMS_inverse.T
+
+    def RGB_linear_to_XYZ(self, RGB) -> np.ndarray:
+        """CIE 1931 XYZ of linear RGB, Y in cd/m²."""
+        return as_triplets(RGB, "RGB") @ self.M_XYZ.T + self.XYZ_black
+
+    def RGB_linear_to_luminance(self, RGB) -> np.ndarray:
+        """Luminance in cd/m² under the observer's V(λ)."""
+        LMS = self.RGB_linear_to_LMS(RGB)
+        return self.observer.w_L * LMS[..., 0] + self.observer.w_M * LMS[..., 1]
+
+    @property
+    def white_luminance(self) -> float:
+        """Luminance of full drive on all channels, cd/m²."""
+        return float(self.RGB_linear_to_luminance(np.ones(3)))
+
+    @property
+    def black_luminance(self) -> float:
+        """Luminance of all-zero drive, cd/m²."""
+        return float(self.RGB_linear_to_luminance(np.zeros(3)))
+
+    def primaries_xy(self) -> np.ndarray:
+        """CIE 1931 xy chromaticity of each primary (rows red, green, blue)."""
+        return np.array([colour.XYZ_to_xy(self.M_XYZ[:, i]) for i in range(3)])
+

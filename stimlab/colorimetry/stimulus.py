@@ -1,0 +1,202 @@
+"""One colour on one background on one display: every space at once, with the gamut and bit-depth verdict.
+
+This is the hub the command line, the web app and the protocol compiler share, so a colour reads the same
+everywhere: :class:`Background` fixes the adapting point, :meth:`Background.colour_to_LMS` turns a colour given
+in any supported space into cone excitations, and :meth:`Background.describe` reports it in all of them.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..errors import InputError
+from ._colour import colour
+from .device import (
+    RGB_linear_to_device,
+    channel_first_to_device,
+    is_within_gamut,
+    quantisation_cone_contrast,
+)
+from .display import CHANNELS, DisplayModel
+from .gamut import DKL_axis_limits, scale_limit
+from .spaces import (
+    DKL_to_LMS,
+    LMS_to_cone_contrast,
+    LMS_to_DKL,
+    LMS_to_MacLeod_Boynton,
+    MacLeod_Boynton_to_LMS,
+    as_triplets,
+    cone_contrast_to_LMS,
+    matrix_DKL_directions,
+)
+
+__all__ = ["Background", "COLOUR_SPACES"]
+
+COLOUR_SPACES = ("cone_contrast", "dkl", "dkl_display_maximum", "macleod_boynton", "lms", "rgb_linear")
+"""Spaces a colour can be given in; the first five are relative to (or scaled by) the background."""
+
+
+class Background:
+    """The background (adapting point) on a display.
+
+    Parameters
+    ----------
+    model
+        The display seen by the observer.
+    RGB_0
+        Background linear RGB, shape (3,), inside the gamut.
+    field
+        Name to use in error messages for where the background came from.
+    """
+
+    def __init__(self, model: DisplayModel, RGB_0, field: str = "background"):
+        RGB_0 = np.asarray(RGB_0, dtype=float)
+        if RGB_0.shape != (3,) or not np.all(np.isfinite(RGB_0)):
+            raise InputError("background must be three finite numbers", field=field)
+        if not is_within_gamut(RGB_0):
+            raise InputError(f"background linear RGB {np.round(RGB_0, 4).tolist()} lies outside the display gamut "
+                             "0..1; choose a background the display can show", field=field)
+        self.model = model
+        self.RGB_0 = RGB_0
+        self.LMS_0 = model.RGB_linear_to_LMS(RGB_0)
+        obs = model.observer
+        self.D = matrix_DKL_directions(self.LMS_0, obs.w_L, obs.w_M)
+        self.DKL_limits = DKL_axis_limits(model, RGB_0, self.D)
+
+    @classmethod
+    def from_LMS(cls, model: DisplayModel, LMS_0, field: str = "background") -> "Background":
+        """The background with cone excitations ``LMS_0``."""
+        return cls(model, model.LMS_to_RGB_linear(LMS_0), field)
+
+    @classmethod
+    def from_MacLeod_Boynton(cls, model: DisplayModel, l: float, s: float, luminance: float,
+                             field: str = "background") -> "Background":
+        """The background at MacLeod–Boynton ``(l, s)`` and luminance (cd/m²)."""
+        obs = model.observer
+        try:
+            LMS = MacLeod_Boynton_to_LMS([l, s, luminance], obs.w_L, obs.w_M, obs.k_S)
+        except ValueError as error:
+            raise InputError(str(error), field=field) from None
+        return cls.from_LMS(model, LMS, field)
+
+    # -- colours --------------------------------------------------------------------------------------------
+    def _conversions(self, space: str):
+        """``(to_LMS, from_LMS)`` for ``space``."""
+        obs = self.model.observer
+        w, LMS_0, maximum = (obs.w_L, obs.w_M), self.LMS_0, self.DKL_limits[:, 1]
+        table = {
+            "cone_contrast": (lambda v: cone_contrast_to_LMS(v, LMS_0), lambda v: LMS_to_cone_contrast(v, LMS_0)),
+            "dkl": (lambda v: DKL_to_LMS(v, LMS_0, *w), lambda v: LMS_to_DKL(v, LMS_0, *w)),
+            "dkl_display_maximum": (lambda v: DKL_to_LMS(v, LMS_0, *w, limits=maximum),
+                                    lambda v: LMS_to_DKL(v, LMS_0, *w, limits=maximum)),
+            "macleod_boynton": (lambda v: MacLeod_Boynton_to_LMS(v, *w, obs.k_S),
+                                lambda v: LMS_to_MacLeod_Boynton(v, *w, obs.k_S)),
+            "lms": (lambda v: np.asarray(v, dtype=float), lambda v: np.asarray(v, dtype=float)),
+            "rgb_linear": (self.model.RGB_linear_to_LMS, self.model.LMS_to_RGB_linear),
+        }
+        if space not in table:
+            raise ValueError(f"unknown colour space {space!r}; choose one of: {', '.join(COLOUR_SPACES)}")
+        return table[space]
+
+    def colour_to_LMS(self, space: str, values) -> np.ndarray:
+        """Cone excitations of a colour given in ``space`` (one of :data:`COLOUR_SPACES`), shape (..., 3)."""
+        return self._conversions(space)[0](values)
+
+    def LMS_to_space(self, space: str, LMS) -> np.ndarray:
+        """A colour's coordinates in ``space``, the inverse of :meth:`colour_to_LMS`."""
+        return self._conversions(space)[1](LMS)
+
+    def affine_to_RGB_linear(self, space: str) -> tuple[np.ndarray, np.ndarray]:
+        """``(A, b)`` with ``RGB = values @ A.T + b`` for the spaces linear in cone excitations.
+
+        Composing the chain into one affine map makes whole images cheap: one matrix product per pixel.
+        """
+        M_inverse = self.model.M_LMS_inverse
+        obs = self.model.observer
+        if space == "dkl":
+            return M_inverse @ self.D, self.RGB_0
+        if space == "dkl_display_maximum":
+            return M_inverse @ matrix_DKL_directions(self.LMS_0, obs.w_L, obs.w_M, self.DKL_limits[:, 1]), self.RGB_0
+        if space == "cone_contrast":
+            return M_inverse * self.LMS_0[None, :], self.RGB_0
+        if space == "lms":
+            return M_inverse, -M_inverse @ self.model.LMS_black
+        if space == "rgb_linear":
+            return np.eye(3), np.zeros(3)
+        raise ValueError(f"{space!r} is not linear in cone excitations; use colour_to_LMS")
+
+    def to_RGB_linear(self, space: str, values) -> np.ndarray:
+        """Linear RGB of colours given in ``space``, shape (..., 3); may lie outside 0..1."""
+        if space == "macleod_boynton":
+            return self.model.LMS_to_RGB_linear(self.colour_to_LMS(space, values))
+        A, b = self.affine_to_RGB_linear(space)
+        RGB = as_triplets(values, space) @ A.T
+        RGB += b
+        return RGB
+
+    def to_device(self, space: str, values) -> np.ndarray:
+        """Digital levels of colours given in ``space``, shape (..., 3).
+
+        Raises
+        ------
+        ValueError
+            If any colour lies outside the gamut: nothing is clipped here.
+        """
+        if space == "macleod_boynton":
+            return RGB_linear_to_device(self.to_RGB_linear(space, values), self.model.level_outputs)
+        values = as_triplets(values, space)
+        A, b = self.affine_to_RGB_linear(space)
+        RGB = A @ values.reshape(-1, 3).T  # channel-first (3, N): contiguous rows for the level search
+        RGB += b[:, None]
+        return channel_first_to_device(RGB, self.model.level_outputs).reshape(values.shape)
+
+    def max_scale(self, LMS) -> tuple[np.ndarray, np.ndarray]:
+        """How far each colour's direction from the background can be scaled in gamut, and the limiting channel."""
+        delta_RGB = self.model.LMS_to_RGB_linear(LMS) - self.RGB_0
+        return scale_limit(self.RGB_0, delta_RGB)
+
+    def describe(self, LMS) -> dict:
+        """One colour in every space, with its device levels, gamut verdict and quantisation grain.
+
+        Returns a JSON-able dict (keys as the ``stimlab convert --json`` contract).
+        """
+        model, obs = self.model, self.model.observer
+        LMS = np.asarray(LMS, dtype=float)
+        RGB = model.LMS_to_RGB_linear(LMS)
+        inside = bool(is_within_gamut(RGB))
+        scale, channel = self.max_scale(LMS)
+        XYZ = model.RGB_linear_to_XYZ(RGB)
+        white = model.RGB_linear_to_XYZ(np.ones(3))
+        result = {
+            "rgb_linear": RGB.tolist(),
+            "in_gamut": inside,
+            "rgb_device": None,
+            "out_of_gamut": None,
+            "lms": LMS.tolist(),
+            "cone_contrast": LMS_to_cone_contrast(LMS, self.LMS_0).tolist(),
+            "dkl": LMS_to_DKL(LMS, self.LMS_0, obs.w_L, obs.w_M).tolist(),
+            "dkl_display_maximum": self.LMS_to_space("dkl_display_maximum", LMS).tolist(),
+            "macleod_boynton": LMS_to_MacLeod_Boynton(LMS, obs.w_L, obs.w_M, obs.k_S)[:2].tolist(),
+            "luminance_cd_m2": float(obs.w_L * LMS[0] + obs.w_M * LMS[1]),
+            "xyY": colour.XYZ_to_xyY(XYZ).tolist(),
+            "lab": colour.XYZ_to_Lab(XYZ / white[1], colour.XYZ_to_xy(white)).tolist(),
+            "quantisation_cone_contrast": None,
+            "max_scale_in_gamut": float(scale),
+            "limiting_channel": CHANNELS[int(channel)] if channel >= 0 else None,
+            "background_rgb_linear": self.RGB_0.tolist(),
+            "observer": obs.key,
+            "display_name": model.profile["name"],
+            "display_hash": model.sha256,
+            "approximate_primaries": model.is_approximate,
+        }
+        if inside:
+            levels = RGB_linear_to_device(np.clip(RGB, 0.0, 1.0), model.level_outputs)
+            result["rgb_device"] = levels.tolist()
+            result["quantisation_cone_contrast"] = quantisation_cone_contrast(
+                levels, model.level_outputs, model.M_LMS, self.LMS_0).tolist()
+        else:
+            result["out_of_gamut"] = {
+                CHANNELS[c]: float(RGB[c] - 1.0 if RGB[c] > 1 else RGB[c])
+                for c in range(3) if not 0.0 <= RGB[c] <= 1.0
+            }
+        return result

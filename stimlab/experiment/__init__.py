@@ -1,0 +1,1 @@
+"""Experiments: protocol files, factorial design, and compiling a protocol for one display and observer."""

@@ -1,0 +1,287 @@
+"""Protocol files: read, validate against the JSON Schema, and check what a schema cannot (names, variables).
+
+Every problem is an :class:`~stimlab.errors.InputError` whose ``field`` is the JSON path of the offending value,
+e.g. ``stimuli[2].colour.dkl[1]``, with the value and what is allowed.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+from functools import lru_cache
+from importlib import resources
+from pathlib import Path
+
+import jsonschema
+
+from ..colorimetry.observers import OBSERVERS
+from ..errors import InputError
+
+__all__ = ["load_protocol", "parse_protocol", "validate_protocol", "protocol_schema", "json_path",
+           "protocol_sha256", "CAUTION"]
+
+CAUTION = ("Flicker and flashing can trigger seizures in people with photosensitive epilepsy. Screen participants "
+           "as your ethics approval requires; your local rules and approvals take precedence over this audit.")
+"""The photosensitivity caution shown wherever flicker is designed or run."""
+
+
+@lru_cache(maxsize=1)
+def protocol_schema() -> dict:
+    """The JSON Schema document for protocol files (``stimlab/data/protocol.schema.json``)."""
+    return json.loads(resources.files("stimlab.data").joinpath("protocol.schema.json").read_text("utf-8"))
+
+
+@lru_cache(maxsize=1)
+def _validator():
+    return jsonschema.Draft202012Validator(protocol_schema())
+
+
+def json_path(parts) -> str:
+    """``['stimuli', 2, 'colour', 'dkl', 1]`` → ``stimuli[2].colour.dkl[1]``."""
+    text = ""
+    for part in parts:
+        text += f"[{part}]" if isinstance(part, int) else (f".{part}" if text else str(part))
+    return text or "(top level)"
+
+
+def _deepest(error):
+    """For oneOf/anyOf failures, the sub-error that got furthest, which names the real problem."""
+    while error.context:
+        error = max(error.context, key=lambda e: (len(e.absolute_path), -len(e.message)))
+    return error
+
+
+def _explain(error) -> str:
+    value = error.instance
+    shown = json.dumps(value) if not isinstance(value, (dict, list)) or len(json.dumps(value)) < 60 else "…"
+    if error.validator == "enum":
+        return f"{shown} is not allowed; use one of: {', '.join(json.dumps(v) for v in error.validator_value)}"
+    if error.validator == "const":
+        return f"{shown} is not allowed; it must be {json.dumps(error.validator_value)}"
+    if error.validator == "additionalProperties":
+        allowed = sorted(error.schema.get("properties", {}))
+        extra = sorted(set(value) - set(allowed)) if isinstance(value, dict) else []
+        if allowed:
+            return f"unexpected field(s) {', '.join(extra)}; allowed: {', '.join(allowed)}"
+        return f"unexpected field(s) {', '.join(extra)}"
+    if error.validator == "type":
+        return f"{shown} is not a {error.validator_value}"
+    if error.validator == "pattern":
+        hint = "a '$variable' reference" if "\\$" in error.validator_value else f"text matching {error.validator_value}"
+        return f"{shown} is not allowed here; expected a number or {hint}"
+    if error.validator in ("minProperties", "maxProperties") and "cone_contrast" in error.schema.get("properties", {}):
+        return f"give exactly one colour space ({', '.join(sorted(error.schema['properties']))})"
+    return error.message
+
+
+def validate_protocol(data, name: str = "protocol") -> dict:
+    """Check a protocol against the schema and its own references; return it unchanged when it is valid.
+
+    Raises
+    ------
+    InputError
+        For the first problem, with ``field`` its JSON path.
+    """
+    errors = sorted(_validator().iter_errors(data), key=lambda e: (list(map(str, e.absolute_path)), e.message))
+    if errors:
+        error = _deepest(errors[0])
+        raise InputError(_explain(error), file=name, field=json_path(error.absolute_path))
+    _check_references(data, name)
+    return data
+
+
+def _check_references(data: dict, name: str) -> None:
+    def fail(message, *path):
+        raise InputError(message, file=name, field=json_path(path))
+
+    observer = data["about"]["observer"]
+    if observer not in OBSERVERS and not observer.startswith("adjusted:"):
+        fail(f"unknown observer {observer!r}; use one of {', '.join(OBSERVERS)} or 'adjusted:<participant>'",
+             "about", "observer")
+    variables = data["conditions"].get("variables", {})
+    names = {}
+    for i, stimulus in enumerate(data["stimuli"]):
+        if stimulus["name"] in names:
+            fail(f"stimulus name {stimulus['name']!r} is used twice (also stimuli[{names[stimulus['name']]}])",
+                 "stimuli", i, "name")
+        names[stimulus["name"]] = i
+        needs = {"disc": ["size_deg"], "square": ["size_deg"], "annulus": ["size_deg", "inner_size_deg"],
+                 "centre_surround": ["size_deg", "surround_size_deg", "second_colour"],
+                 "bipartite": ["size_deg", "second_colour"], "gaussian": ["sigma_deg"],
+                 "grating": ["sigma_deg", "cycles_per_deg"]}.get(stimulus["shape"], [])
+        for key in needs:
+            if key not in stimulus:
+                fail(f"a {stimulus['shape']} needs {key}", "stimuli", i, key)
+        if stimulus["shape"] == "annulus" and stimulus["inner_size_deg"] >= stimulus["size_deg"]:
+            fail("inner_size_deg must be smaller than size_deg", "stimuli", i, "inner_size_deg")
+        if stimulus["shape"] == "centre_surround" and stimulus["surround_size_deg"] <= stimulus["size_deg"]:
+            fail("surround_size_deg must be larger than the centre's size_deg", "stimuli", i, "surround_size_deg")
+        course = stimulus.get("time_course", {"kind": "steady"})
+        if course["kind"] != "steady" and "frequency_hz" not in course:
+            fail(f"a {course['kind']} time course needs frequency_hz", "stimuli", i, "time_course", "frequency_hz")
+        if course["kind"] == "counterphase" and stimulus["shape"] != "grating":
+            fail("counterphase modulation needs a grating", "stimuli", i, "time_course", "kind")
+        for key in ("colour", "second_colour"):
+            if key in stimulus:
+                _check_colour(stimulus[key], variables, fail, "stimuli", i, key)
+    if "fixation" in data and "colour" in data["fixation"]:
+        _check_colour(data["fixation"]["colour"], variables, fail, "fixation", "colour")
+    for i, phase in enumerate(data["trial"]):
+        for j, stimulus in enumerate(phase.get("stimuli", [])):
+            if stimulus not in names:
+                fail(f"no stimulus called {stimulus!r}; defined: {', '.join(names)}", "trial", i, "stimuli", j)
+        kind = phase["phase"]
+        if kind in ("adapt", "gap", "test") and "duration_s" not in phase:
+            fail(f"an {kind} phase needs duration_s", "trial", i, "duration_s")
+        if kind == "respond":
+            if "response" not in phase:
+                fail("a respond phase needs a response", "trial", i, "response")
+            _check_response(phase["response"], names, variables, fail, "trial", i, "response")
+    blocks = data["conditions"].get("blocks")
+    if blocks and blocks["by"] not in variables:
+        fail(f"blocks.by names {blocks['by']!r}, which is not a condition variable", "conditions", "blocks", "by")
+    photometry = data.get("photometry")
+    if photometry:
+        _check_photometry(data, photometry, names, fail)
+    model = data.get("adaptation_model")
+    if model:
+        keys = ["adapter"] if model["kind"] == "after_image" else ["inducer", "test"]
+        for key in keys:
+            if model.get(key) not in names:
+                fail(f"{model['kind']} needs {key}: the name of a stimulus", "adaptation_model", key)
+
+
+def _check_photometry(data: dict, photometry: dict, names: dict, fail) -> None:
+    """A flicker-photometry task: a square-flickering L−M stimulus whose luminance component is adjusted."""
+    name = photometry["stimulus"]
+    if name not in names:
+        fail(f"no stimulus called {name!r}", "photometry", "stimulus")
+    stimulus = data["stimuli"][names[name]]
+    dkl = stimulus["colour"].get("dkl")
+    if not (isinstance(dkl, list) and all(isinstance(v, (int, float)) for v in dkl) and dkl[0] == 0 and dkl[2] == 0
+            and dkl[1] != 0 and "scale" not in stimulus["colour"]):
+        fail("the photometry stimulus's colour must be a fixed DKL L−M amplitude, [0, a, 0]", "stimuli",
+             names[name], "colour")
+    if stimulus.get("time_course", {}).get("kind") != "square":
+        fail("flicker photometry needs square-wave flicker (15–20 Hz is common practice)", "stimuli", names[name],
+             "time_course")
+    responses = [p.get("response", {}) for p in data["trial"] if p["phase"] == "respond"]
+    if not responses or responses[0].get("method") != "adjustment" or responses[0].get("target") != name or \
+            responses[0].get("space") != "dkl" or responses[0].get("axis") != [1, 0, 0]:
+        fail(f"flicker photometry adjusts {name!r} along the DKL luminance axis: a respond phase with "
+             "method adjustment, space dkl, axis [1, 0, 0]", "photometry", "stimulus")
+
+
+def _check_colour(colour: dict, variables: dict, fail, *path) -> None:
+    spaces = [k for k in colour if k != "scale"]
+    if len(spaces) != 1:
+        fail("give exactly one colour space: cone_contrast, dkl or macleod_boynton", *path)
+    space = spaces[0]
+    vector = colour[space]
+    references = [(vector, path + (space,))] if isinstance(vector, str) else \
+        [(v, path + (space, k)) for k, v in enumerate(vector)]
+    references.append((colour.get("scale", 1), path + ("scale",)))
+    for value, where in references:
+        if isinstance(value, str):
+            variable = value[1:]
+            if variable not in variables:
+                fail(f"{value!r} refers to no condition variable; defined: {', '.join(variables) or 'none'}", *where)
+            values = variables[variable]
+            values = list(values.values()) if isinstance(values, dict) else values
+            wanted = "a 3-vector" if where[-1] == space else "a number"
+            ok = all(isinstance(v, list) for v in values) if wanted == "a 3-vector" else \
+                all(isinstance(v, (int, float)) for v in values)
+            if not ok:
+                fail(f"{value!r} must take {wanted} in every condition", *where)
+    if space == "macleod_boynton" and "scale" in colour:
+        fail("scale applies to colours relative to the background, not to MacLeod–Boynton coordinates", *path)
+
+
+def _check_response(response: dict, names: dict, variables: dict, fail, *path) -> None:
+    method = response["method"]
+    needs = {"adjustment": ["target", "space", "step_fine", "limits"], "staircase": ["target", "space", "axis",
+             "start", "steps", "limits", "task"], "2afc": ["target"], "yes_no": [], "duration": []}[method]
+    for key in needs:
+        if key not in response:
+            fail(f"a {method} response needs {key}", *path, key)
+    if method in ("adjustment", "2afc", "staircase") and response["target"] not in names:
+        fail(f"no stimulus called {response['target']!r}", *path, "target")
+    axis = response.get("axis")
+    references = [axis] if isinstance(axis, str) else [v for v in (axis or []) if isinstance(v, str)]
+    for reference in references:
+        values = variables.get(reference[1:])
+        if values is None:
+            fail(f"{reference!r} refers to no condition variable", *path, "axis")
+        values = list(values.values()) if isinstance(values, dict) else values
+        wanted = list if isinstance(axis, str) else (int, float)
+        if not all(isinstance(v, wanted) for v in values):
+            fail(f"{reference!r} must take {'a 3-vector' if isinstance(axis, str) else 'a number'} in every "
+                 "condition", *path, "axis")
+    if method == "adjustment" and ("axis" in response) == ("plane" in response):
+        fail("an adjustment moves along one axis or in one plane: give exactly one of axis, plane", *path)
+    if "limits" in response and response["limits"][0] >= response["limits"][1]:
+        fail("limits must be [low, high] with low < high", *path, "limits")
+    if "step_coarse" in response and response["step_coarse"] < response.get("step_fine", 0):
+        fail("step_coarse must not be smaller than step_fine", *path, "step_coarse")
+
+
+def parse_protocol(text: str, name: str = "protocol") -> dict:
+    """Parse and validate protocol JSON text."""
+    try:
+        data = json.loads(text)
+    except json.JSONDecodeError as error:
+        raise InputError(f"not valid JSON: {error.msg} at line {error.lineno}, column {error.colno}",
+                         file=name) from None
+    return validate_protocol(data, name)
+
+
+def load_protocol(path) -> dict:
+    """Read and validate a protocol file."""
+    path = Path(path)
+    if not path.is_file():
+        raise InputError("protocol file not found; check the path", file=str(path))
+    try:
+        text = path.read_text(encoding="utf-8")
+    except UnicodeDecodeError:
+        raise InputError("not a UTF-8 text file", file=str(path)) from None
+    return parse_protocol(text, str(path))
+
+
+def protocol_sha256(data: dict) -> str:
+    """sha256 of a protocol's canonical JSON, cited by compiled sessions."""
+    return hashlib.sha256(json.dumps(data, sort_keys=True, separators=(",", ":")).encode()).hexdigest()
+
+
+@lru_cache(maxsize=1)
+def schema_enums() -> dict[str, tuple]:
+    """Allowed values of every enumerated protocol field, by index-free path (``stimuli.time_course.kind``)."""
+    schema = protocol_schema()
+    found: dict[str, tuple] = {}
+
+    def resolve(node):
+        while isinstance(node, dict) and "$ref" in node:
+            node = schema["$defs"][node["$ref"].rsplit("/", 1)[-1]]
+        return node
+
+    def walk(node, path, depth=0):
+        node = resolve(node)
+        if not isinstance(node, dict) or depth > 12:
+            return
+        if "enum" in node and path:
+            found[path] = tuple(node["enum"])
+        for key, child in node.get("properties", {}).items():
+            walk(child, f"{path}.{key}" if path else key, depth + 1)
+        if isinstance(node.get("items"), dict):
+            walk(node["items"], path, depth + 1)
+        for child in node.get("oneOf", []):
+            walk(child, path, depth + 1)
+
+    walk(schema, "")
+    return found
+
+
+def enum_for(path: str) -> tuple | None:
+    """The allowed values for the field at a JSON path (indices ignored), or None."""
+    import re
+
+    return schema_enums().get(re.sub(r"\[\d+\]", "", path))

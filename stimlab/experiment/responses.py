@@ -1,0 +1,133 @@
+"""Compiled responses: the ladder of positions an adjustment or a staircase can reach, as device levels.
+
+An adjustment moves a stimulus's colour from its own value along an axis (or in a plane) of cone contrast or
+DKL space, in fine steps between limits; a staircase shows ``value × axis`` on the background, with the value
+on a ladder of the smallest step. Both compile to a table of device levels per ladder position (``None`` where
+the colour would leave the gamut) plus the affine map from position to cone excitations for the log, so the
+runner does no colour maths.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..colorimetry.device import RGB_linear_to_device_or_none
+from ..colorimetry.stimulus import Background
+from ..errors import InputError
+
+__all__ = ["compile_response", "ladder"]
+
+MAX_POSITIONS = 250_000
+
+
+def ladder(low: float, high: float, step: float, where: str) -> np.ndarray:
+    """Positions ``low, low + step, …`` up to ``high`` (inclusive within rounding)."""
+    count = int(np.floor((high - low) / step + 1e-9)) + 1
+    if count > 20_000:
+        raise InputError(f"{count} positions between the limits at this step; use a larger fine step or narrower "
+                         "limits (at most 20,000)", field=where)
+    return low + step * np.arange(count)
+
+
+def _table(background: Background, LMS: np.ndarray):
+    RGB = background.model.LMS_to_RGB_linear(LMS)
+    device, inside = RGB_linear_to_device_or_none(RGB, background.model.level_outputs)
+    return device, inside, RGB
+
+
+def compile_response(response: dict, stimuli: dict, background: Background, where: str,
+                     values: dict | None = None) -> dict:
+    """Compile an adjustment or staircase response for one condition (``values``: the condition's variables)."""
+    values = values or {}
+    if isinstance(response.get("axis"), (str, list)):
+        axis = response["axis"]
+        axis = values[axis[1:]] if isinstance(axis, str) else [values[v[1:]] if isinstance(v, str) else v
+                                                                 for v in axis]
+        response = {**response, "axis": axis}
+    space = response["space"]
+    target = stimuli[response["target"]]["colour"]
+    low, high = response["limits"]
+    if response["method"] == "staircase":
+        return _staircase(response, background, space, where)
+    axes = np.array([response["axis"]] if "axis" in response else response["plane"], dtype=float)
+    if not np.all(np.any(axes != 0, axis=1)):
+        raise InputError("an adjustment axis must not be all zeros", field=f"{where}.axis")
+    fine = float(response["step_fine"])
+    positions = ladder(low, high, fine, f"{where}.step_fine")
+    base = background.LMS_to_space(space, np.array(target["lms"]))
+    if len(axes) == 1:
+        grid = positions[:, None]
+    else:
+        if positions.size**2 > MAX_POSITIONS:
+            raise InputError(f"{positions.size}² positions in the plane; use a larger fine step (at most "
+                             f"{MAX_POSITIONS:,} in all)", field=f"{where}.step_fine")
+        p1, p2 = np.meshgrid(positions, positions, indexing="ij")
+        grid = np.stack([p1.ravel(), p2.ravel()], axis=-1)
+    coordinates = base + grid @ axes
+    LMS = background.colour_to_LMS(space, coordinates)
+    device, inside, RGB = _table(background, LMS)
+    course = stimuli[response["target"]]["time_course"]
+    opposite = None
+    if course["kind"] == "square" and course.get("mode") != "on_off":
+        # A square-flickering target alternates with its opposite about the background: both need levels.
+        opposite, opposite_inside = RGB_linear_to_device_or_none(2 * background.RGB_0 - RGB,
+                                                                 background.model.level_outputs)
+        inside = inside & opposite_inside
+        device = [d if ok else None for d, ok in zip(device, inside)]
+    origin = background.colour_to_LMS(space, base)
+    axis_LMS = np.array([background.colour_to_LMS(space, base + a) - origin for a in axes])
+    start = np.atleast_1d(np.asarray(response.get("start", 0.0), dtype=float))
+    if start.size != len(axes):
+        raise InputError(f"start needs {len(axes)} value(s), one per adjustment direction", field=f"{where}.start")
+    jitter = float(response.get("start_jitter", 0.0))
+    coarse = int(round(float(response.get("step_coarse", 10 * fine)) / fine))
+
+    last = positions.size - 1
+    nominal = [float(s) for s in start]
+
+    def start_index(rng):  # once per trial: plain Python, no array overhead
+        values = [s + rng.uniform(-jitter, jitter) if jitter else s for s in nominal]
+        index = [min(max(int(round((v - low) / fine)), 0), last) for v in values]
+        return index[0] if len(index) == 1 else index
+
+    return {
+        "kind": "adjustment", "target": response["target"], "space": space, "axes": axes.tolist(),
+        "positions": {"low": low, "step": fine, "count": int(positions.size), "dimensions": len(axes)},
+        "coarse_step_positions": coarse,
+        "device": device,
+        "device_opposite": opposite,
+        "in_gamut": inside.tolist(),
+        "origin_lms": origin.tolist(),
+        "axis_lms": axis_LMS.tolist(),
+        "start_nominal": start.tolist(),
+        "_start": start_index, "_RGB": RGB, "_grid": grid, "_positions": positions, "_axes": axes, "_base": base,
+    }
+
+
+def _staircase(response: dict, background: Background, space: str, where: str) -> dict:
+    low, high = response["limits"]
+    steps = [float(s) for s in response["steps"]]
+    smallest = min(steps)
+    values = ladder(low, high, smallest, f"{where}.steps")
+    axis = np.asarray(response["axis"], dtype=float)
+    LMS = background.colour_to_LMS(space, values[:, None] * axis)
+    device, inside, RGB = _table(background, LMS)
+    start = float(response["start"])
+    if not low <= start <= high:
+        raise InputError(f"start {start:g} lies outside the limits [{low:g}, {high:g}]", field=f"{where}.start")
+    return {
+        "kind": "staircase", "target": response["target"], "space": space, "axes": [axis.tolist()],
+        "task": response["task"],
+        "positions": {"low": low, "step": smallest, "count": int(values.size), "dimensions": 1},
+        "start_position": int(round((start - low) / smallest)),
+        "step_positions": [int(round(s / smallest)) for s in steps],
+        "rule": response.get("rule", {"up": 1, "down": 2}),
+        "stop_reversals": response.get("stop_reversals", 8),
+        "max_trials": response.get("max_trials", 50),
+        "device": device,
+        "in_gamut": inside.tolist(),
+        "origin_lms": background.LMS_0.tolist(),
+        "axis_lms": (background.colour_to_LMS(space, axis) - background.LMS_0)[None, :].tolist(),
+        "_RGB": RGB, "_grid": values[:, None], "_positions": values, "_axes": axis[None, :],
+        "_base": np.zeros(3),
+    }

@@ -1,0 +1,185 @@
+"""Readers for a technician's measurement files, with every problem named by file, row and column.
+
+Two formats, both plain CSV with a header row:
+
+- spectra: ``wavelength_nm,red,green,blue`` (optionally ``black``), spectral radiance in W·sr⁻¹·m⁻²·nm⁻¹ of each
+  primary at full drive with the others at zero, as measured (black included); evenly spaced, 1–5 nm, covering
+  at least 390–780 nm. A separate black file has ``wavelength_nm,black``.
+- transfer: ``channel,level,luminance_cd_m2`` with channel one of red, green, blue; each channel measured at
+  level 0 and at full drive, and at levels in between.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+from pathlib import Path
+
+import numpy as np
+
+from ..colorimetry.display import CHANNELS
+from ..errors import InputError
+
+__all__ = ["read_text", "parse_spectra", "parse_black", "parse_transfer", "CHANNELS", "SPECTRAL_RANGE_NM"]
+
+SPECTRAL_RANGE_NM = (390.0, 780.0)
+"""Range the spectra must cover: where the cone fundamentals and V(λ) are not negligible."""
+
+
+def read_text(path) -> str:
+    """The text of a measurement file, or an :class:`InputError` saying why it cannot be read."""
+    path = Path(path)
+    if not path.is_file():
+        raise InputError("file not found; check the path", file=str(path))
+    try:
+        return path.read_text(encoding="utf-8-sig")
+    except UnicodeDecodeError:
+        raise InputError("not a UTF-8 text file; export the measurements as CSV", file=str(path)) from None
+
+
+def _rows(text: str, name: str, expected: tuple[str, ...], optional: tuple[str, ...] = ()) -> list[tuple[int, dict]]:
+    """Parse CSV text into (row number, record) pairs, checking the header."""
+    text = text.lstrip("\ufeff")
+    reader = csv.reader(io.StringIO(text))
+    try:
+        header = [h.strip() for h in next(reader)]
+    except StopIteration:
+        raise InputError(f"the file is empty; expected a header {','.join(expected)}", file=name) from None
+    missing = [c for c in expected if c not in header]
+    extra = [c for c in header if c not in expected + optional]
+    if missing or extra:
+        what = []
+        if missing:
+            what.append("missing column(s) " + ", ".join(missing))
+        if extra:
+            what.append("unexpected column(s) " + ", ".join(repr(c) for c in extra))
+        raise InputError(f"{'; '.join(what)}; the header must be {','.join(expected)}", file=name, row=1)
+    rows = []
+    for number, values in enumerate(reader, start=2):
+        if not values or all(not v.strip() for v in values):
+            continue
+        if len(values) != len(header):
+            raise InputError(f"has {len(values)} values but the header has {len(header)}", file=name, row=number)
+        rows.append((number, dict(zip(header, (v.strip() for v in values)))))
+    if not rows:
+        raise InputError("has a header but no data rows", file=name)
+    return rows
+
+
+def _number(text: str, name: str, row: int, column: str, *, non_negative: bool = False) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise InputError(f"{text!r} is not a number", file=name, row=row, field=column) from None
+    if not math.isfinite(value):
+        raise InputError(f"{text!r} is not a finite number", file=name, row=row, field=column)
+    if non_negative and value < 0:
+        raise InputError(f"negative value {value:g}; radiance and luminance cannot be negative "
+                         "(subtract nothing before export, or set tiny negatives from noise to 0)",
+                         file=name, row=row, field=column)
+    return value
+
+
+def _spectral_table(text: str, name: str, columns: tuple[str, ...],
+                    optional: tuple[str, ...] = ()) -> tuple[np.ndarray, np.ndarray, bool]:
+    rows = _rows(text, name, ("wavelength_nm",) + columns, optional)
+    columns = columns + tuple(c for c in optional if c in rows[0][1])
+    wavelengths = np.array([_number(r["wavelength_nm"], name, n, "wavelength_nm") for n, r in rows])
+    values = np.array([[_number(r[c], name, n, c, non_negative=True) for c in columns] for n, r in rows])
+    steps = np.diff(wavelengths)
+    if np.any(steps <= 0):
+        bad = int(np.flatnonzero(steps <= 0)[0])
+        raise InputError("wavelengths must increase from row to row", file=name, row=rows[bad + 1][0],
+                         field="wavelength_nm")
+    if not np.allclose(steps, steps[0], atol=1e-6) or not 1.0 <= steps[0] <= 5.0:
+        raise InputError(f"wavelengths must be evenly spaced 1–5 nm apart (found steps of "
+                         f"{steps.min():g}–{steps.max():g} nm); resample the export", file=name,
+                         field="wavelength_nm")
+    low, high = SPECTRAL_RANGE_NM
+    if wavelengths[0] > low or wavelengths[-1] < high:
+        raise InputError(f"spectra cover {wavelengths[0]:g}–{wavelengths[-1]:g} nm but must cover at least "
+                         f"{low:g}–{high:g} nm; measure the full visible range", file=name, field="wavelength_nm")
+    return wavelengths, values, len(columns) > 3
+
+
+def parse_spectra(text: str, name: str = "spectra") -> tuple[np.ndarray, np.ndarray, np.ndarray | None]:
+    """Parse primary spectra from CSV text.
+
+    Parameters
+    ----------
+    text
+        CSV with header ``wavelength_nm,red,green,blue`` and optionally ``black``.
+    name
+        What to call the file in messages.
+
+    Returns
+    -------
+    wavelengths : ndarray, (N,)
+        nm.
+    primaries : ndarray, (N, 3)
+        Radiance of red, green, blue at full drive as measured, W·sr⁻¹·m⁻²·nm⁻¹.
+    black : ndarray (N,) or None
+        Radiance at all-zero drive when the file has a ``black`` column.
+    """
+    wavelengths, values, has_black = _spectral_table(text, name, CHANNELS, ("black",))
+    return wavelengths, values[:, :3], (values[:, 3] if has_black else None)
+
+
+def parse_black(text: str, name: str = "black") -> tuple[np.ndarray, np.ndarray]:
+    """Parse a black (all-zero drive) spectrum from CSV text: ``wavelength_nm,black``."""
+    wavelengths, values, _ = _spectral_table(text, name, ("black",))
+    return wavelengths, values[:, 0]
+
+
+def parse_transfer(text: str, bits: int, name: str = "transfer") -> dict[str, tuple[np.ndarray, np.ndarray]]:
+    """Parse transfer measurements from CSV text.
+
+    Parameters
+    ----------
+    text
+        CSV with header ``channel,level,luminance_cd_m2``.
+    bits
+        Bit depth of the display; levels must lie in 0..2^bits − 1.
+
+    Returns
+    -------
+    dict
+        ``{channel: (levels, luminance_cd_m2)}``, sorted by level.
+    """
+    d_max = 2**bits - 1
+    by_channel: dict[str, list[tuple[int, float, int]]] = {c: [] for c in CHANNELS}
+    for row, record in _rows(text, name, ("channel", "level", "luminance_cd_m2")):
+        channel = record["channel"].lower()
+        if channel not in by_channel:
+            raise InputError(f"unknown channel {record['channel']!r}; use red, green or blue", file=name, row=row,
+                             field="channel")
+        level = _number(record["level"], name, row, "level")
+        if level != int(level) or not 0 <= level <= d_max:
+            raise InputError(f"level {record['level']!r} must be a whole number in 0..{d_max} at {bits} bits",
+                             file=name, row=row, field="level")
+        luminance = _number(record["luminance_cd_m2"], name, row, "luminance_cd_m2", non_negative=True)
+        by_channel[channel].append((int(level), luminance, row))
+    result = {}
+    for channel, points in by_channel.items():
+        points.sort()
+        levels = [p[0] for p in points]
+        if 0 not in levels or d_max not in levels:
+            raise InputError(f"channel {channel} must be measured at level 0 and at full drive ({d_max}); "
+                             f"found levels {levels or 'none'}", file=name, field="level")
+        if len(set(levels)) != len(levels):
+            dup = next(p for i, p in enumerate(points[1:]) if p[0] == points[i][0])
+            raise InputError(f"channel {channel} level {dup[0]} is measured twice; average the repeats",
+                             file=name, row=dup[2], field="level")
+        luminance = np.array([p[1] for p in points])
+        drops = np.flatnonzero(np.diff(luminance) < 0)
+        if drops.size:
+            bad = points[int(drops[0]) + 1]
+            raise InputError(f"channel {channel} luminance falls from {points[int(drops[0])][1]:g} to {bad[1]:g} "
+                             f"cd/m² at level {bad[0]}; transfer data must be monotone (re-measure that level)",
+                             file=name, row=bad[2], field="luminance_cd_m2")
+        if luminance[-1] <= luminance[0]:
+            raise InputError(f"channel {channel} is no brighter at full drive than at 0", file=name,
+                             field="luminance_cd_m2")
+        result[channel] = (np.array(levels, dtype=float), luminance)
+    return result

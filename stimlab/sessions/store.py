@@ -1,0 +1,309 @@
+"""The data folder: one SQLite database (WAL) for displays, sessions and their logs, plus the protocol files.
+
+The frame log is stored one row per batch, its frames a packed block of columns (frame, t_raf, t_callback, trial,
+phase, dropped, drawn) in one binary value (see :mod:`stimlab.sessions.frame_log`): an hour at 120 Hz is 3,600 rows, not 432,000.
+
+The schema version lives in ``PRAGMA user_version``; :data:`MIGRATIONS` are applied in order on open, each in
+its own transaction, so an older data folder is brought up to date without losing anything. A migration is SQL
+text or a function of the connection (for a change of stored format that SQL cannot express).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import hashlib
+import json
+import os
+import re
+import sqlite3
+import threading
+from pathlib import Path
+
+from ..errors import ConflictError, InputError
+from ..experiment.protocol import parse_protocol
+from ..profiles.profile import profile_from_dict
+
+__all__ = ["Store", "MIGRATIONS", "default_data_dir", "safe_protocol_name"]
+
+def _pack_frame_bodies(db: sqlite3.Connection) -> None:
+    """Version 4: frame blocks stored as JSON lists (inside the batch body as received) become binary blocks."""
+    from .frame_log import read_block
+
+    rows = db.execute("SELECT session_id, batch, body FROM frames").fetchall()
+    for session_id, batch, body in rows:
+        if isinstance(body, bytes):
+            continue
+        lists = json.loads(body)["frames"]
+        for name in ("phase", "drawn"):  # checked only for presence before version 4
+            lists[name] = [None if v is None else str(v) for v in lists[name]]
+        try:
+            packed = read_block(lists).stored()
+        except InputError as error:
+            raise InputError(f"session {session_id}, batch {batch}: {error.message}", field=error.field) from None
+        db.execute("UPDATE frames SET body = ? WHERE session_id = ? AND batch = ?", (packed, session_id, batch))
+
+
+MIGRATIONS = [
+    """
+    CREATE TABLE displays (
+        id INTEGER PRIMARY KEY,
+        name TEXT NOT NULL,
+        version INTEGER NOT NULL,
+        sha256 TEXT NOT NULL UNIQUE,
+        profile TEXT NOT NULL,
+        created_at TEXT NOT NULL,
+        UNIQUE (name, version)
+    );
+    CREATE TABLE sessions (
+        id INTEGER PRIMARY KEY,
+        protocol_file TEXT NOT NULL,
+        protocol_sha256 TEXT NOT NULL,
+        display_id INTEGER NOT NULL REFERENCES displays(id),
+        participant TEXT NOT NULL,
+        status TEXT NOT NULL CHECK (status IN ('running', 'interrupted', 'complete')),
+        started_at TEXT NOT NULL,
+        ended_at TEXT,
+        compiled TEXT NOT NULL,
+        checks TEXT,
+        acknowledgement TEXT,
+        software_version TEXT NOT NULL
+    );
+    CREATE INDEX sessions_by_participant ON sessions (participant);
+    CREATE TABLE batches (
+        session_id INTEGER NOT NULL REFERENCES sessions(id),
+        batch INTEGER NOT NULL,
+        received_at TEXT NOT NULL,
+        events INTEGER NOT NULL,
+        frames INTEGER NOT NULL,
+        PRIMARY KEY (session_id, batch)
+    ) WITHOUT ROWID;
+    CREATE TABLE events (
+        session_id INTEGER NOT NULL REFERENCES sessions(id),
+        seq INTEGER NOT NULL,
+        t_ms REAL NOT NULL,
+        kind TEXT NOT NULL,
+        trial INTEGER,
+        phase TEXT,
+        data TEXT NOT NULL,
+        PRIMARY KEY (session_id, seq)
+    ) WITHOUT ROWID;
+    CREATE TABLE frames (
+        session_id INTEGER NOT NULL REFERENCES sessions(id),
+        batch INTEGER NOT NULL,
+        first_frame INTEGER NOT NULL,
+        last_frame INTEGER NOT NULL,
+        count INTEGER NOT NULL,
+        dropped INTEGER NOT NULL,
+        body TEXT NOT NULL,
+        PRIMARY KEY (session_id, batch)
+    ) WITHOUT ROWID;
+    """,
+    """
+    CREATE TABLE observer_adjustments (
+        id INTEGER PRIMARY KEY,
+        participant TEXT NOT NULL,
+        standard_observer TEXT NOT NULL,
+        ratio REAL NOT NULL,
+        w_L REAL NOT NULL,
+        w_M REAL NOT NULL,
+        summary TEXT NOT NULL,
+        session_id INTEGER REFERENCES sessions(id),
+        display_id INTEGER REFERENCES displays(id),
+        created_at TEXT NOT NULL
+    );
+    CREATE INDEX adjustments_by_participant ON observer_adjustments (participant, id);
+    """,
+    """
+    CREATE TABLE calibration_runs (
+        id INTEGER PRIMARY KEY,
+        name TEXT NOT NULL,
+        settings TEXT NOT NULL,
+        plan TEXT NOT NULL,
+        spectra TEXT,
+        display_id INTEGER REFERENCES displays(id),
+        result TEXT,
+        created_at TEXT NOT NULL
+    );
+    CREATE TABLE calibration_readings (
+        run_id INTEGER NOT NULL REFERENCES calibration_runs(id),
+        step INTEGER NOT NULL,
+        luminance REAL NOT NULL,
+        x REAL,
+        y REAL,
+        measured_at TEXT NOT NULL,
+        PRIMARY KEY (run_id, step)
+    ) WITHOUT ROWID;
+    """,
+    _pack_frame_bodies,
+]
+
+
+def default_data_dir() -> Path:
+    """``$XDG_DATA_HOME/stimlab`` (``~/.local/share/stimlab`` when unset)."""
+    base = os.environ.get("XDG_DATA_HOME") or Path.home() / ".local" / "share"
+    return Path(base) / "stimlab"
+
+
+_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.-]{0,80}$")
+
+
+def safe_protocol_name(name: str) -> str:
+    """A protocol file name that cannot leave the protocols folder: letters, digits, ``_ . -``, ending ``.json``."""
+    name = (name or "").strip()
+    if not name.endswith(".json"):
+        name += ".json"
+    if not _NAME.match(name) or ".." in name:
+        raise InputError("use letters, digits, '_', '.' and '-' only (no folders) for a protocol file name",
+                         field="name")
+    return name
+
+
+def _now() -> str:
+    return dt.datetime.now(dt.timezone.utc).replace(microsecond=0).isoformat()
+
+
+class Store:
+    """The data folder. Open one connection per request with :meth:`connect`."""
+
+    def __init__(self, root):
+        self.root = Path(root)
+        self.protocols = self.root / "protocols"
+        self.protocols.mkdir(parents=True, exist_ok=True)
+        self.database = self.root / "stimlab.sqlite"
+        self._local = threading.local()
+        db = self.connect()
+        try:
+            db.execute("PRAGMA journal_mode=WAL")
+            self.migrate(db)
+        finally:
+            db.close()
+
+    def request_connection(self) -> sqlite3.Connection:
+        """This thread's long-lived connection, for web requests.
+
+        Opening and closing a connection per request costs a WAL checkpoint each time the last one closes;
+        one connection per server thread avoids that, and SQLite connections must not cross threads.
+        """
+        db = getattr(self._local, "db", None)
+        if db is None:
+            db = self._local.db = self.connect()
+        if db.in_transaction:  # a request that failed half way: never carry its transaction over
+            db.execute("ROLLBACK")
+        return db
+
+    def connect(self) -> sqlite3.Connection:
+        db = sqlite3.connect(self.database, timeout=10, isolation_level=None)
+        db.row_factory = sqlite3.Row
+        db.execute("PRAGMA foreign_keys=ON")
+        db.execute("PRAGMA synchronous=NORMAL")
+        return db
+
+    @staticmethod
+    def migrate(db: sqlite3.Connection) -> int:
+        version = db.execute("PRAGMA user_version").fetchone()[0]
+        for number, script in enumerate(MIGRATIONS[version:], start=version + 1):
+            db.execute("BEGIN IMMEDIATE")
+            try:
+                if callable(script):
+                    script(db)
+                else:
+                    for statement in (s for s in script.split(";") if s.strip()):
+                        db.execute(statement)
+                db.execute(f"PRAGMA user_version={number}")
+                db.execute("COMMIT")
+            except Exception:
+                db.execute("ROLLBACK")
+                raise
+        return db.execute("PRAGMA user_version").fetchone()[0]
+
+    # -- displays -----------------------------------------------------------------------------------------------
+    def add_display(self, db, profile: dict) -> int:
+        profile = profile_from_dict(profile, "profile")
+        existing = db.execute("SELECT id FROM displays WHERE sha256 = ?", (profile["sha256"],)).fetchone()
+        if existing:
+            return existing["id"]
+        version = db.execute("SELECT COALESCE(MAX(version), 0) + 1 FROM displays WHERE name = ?",
+                             (profile["name"],)).fetchone()[0]
+        cursor = db.execute("INSERT INTO displays (name, version, sha256, profile, created_at) VALUES (?, ?, ?, ?, ?)",
+                            (profile["name"], version, profile["sha256"], json.dumps(profile), _now()))
+        return cursor.lastrowid
+
+    def displays(self, db) -> list[dict]:
+        rows = db.execute("SELECT id, name, version, sha256, created_at, profile FROM displays ORDER BY id DESC")
+        return [self._display(row) for row in rows]
+
+    def display(self, db, display_id: int) -> dict | None:
+        row = db.execute("SELECT id, name, version, sha256, created_at, profile FROM displays WHERE id = ?",
+                         (display_id,)).fetchone()
+        return self._display(row) if row else None
+
+    @staticmethod
+    def _display(row) -> dict:
+        return {"id": row["id"], "name": row["name"], "version": row["version"], "sha256": row["sha256"],
+                "created_at": row["created_at"], "profile": json.loads(row["profile"])}
+
+    # -- protocols ----------------------------------------------------------------------------------------------
+    def protocol_names(self) -> list[str]:
+        return sorted(p.name for p in self.protocols.glob("*.json"))
+
+    def read_protocol(self, name: str) -> tuple[str, dict | None, InputError | None]:
+        """Text, parsed protocol (or None) and the validation error (or None) of a stored protocol file."""
+        path = self.protocols / safe_protocol_name(name)
+        if not path.is_file():
+            raise FileNotFoundError(name)
+        text = path.read_text(encoding="utf-8")
+        try:
+            return text, parse_protocol(text, path.name), None
+        except InputError as error:
+            return text, None, error
+
+    def save_protocol(self, name: str, protocol: dict, base_sha256: str | None) -> str:
+        """Write a validated protocol, refusing to overwrite a file changed since ``base_sha256`` was read.
+
+        The write goes to a temporary file that replaces the old one in one step, so a crash never leaves half a
+        protocol. Returns the new content's sha256.
+        """
+        name = safe_protocol_name(name)
+        path = self.protocols / name
+        if path.exists():
+            current = text_sha256(path.read_text(encoding="utf-8"))
+            if base_sha256 != current:
+                raise ConflictError("the protocol file changed on disk since you opened it; reload it (your edits are "
+                                    "still in this page) and apply them again", file=name)
+        text = json.dumps(protocol, indent=2, ensure_ascii=False) + "\n"
+        parse_protocol(text, name)
+        temporary = path.with_suffix(".json.saving")
+        temporary.write_text(text, encoding="utf-8")
+        os.replace(temporary, path)
+        return text_sha256(text)
+
+    # -- observer adjustments -----------------------------------------------------------------------------------
+    def add_adjustment(self, db, participant: str, standard: str, summary: dict, session_id=None,
+                       display_id=None) -> int:
+        cursor = db.execute(
+            "INSERT INTO observer_adjustments (participant, standard_observer, ratio, w_L, w_M, summary, session_id, "
+            "display_id, created_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
+            (participant, standard, summary["ratio"], summary["w_L"], summary["w_M"], json.dumps(summary), session_id,
+             display_id, _now()))
+        return cursor.lastrowid
+
+    def latest_adjustment(self, db, participant: str) -> dict | None:
+        row = db.execute("SELECT * FROM observer_adjustments WHERE participant = ? ORDER BY id DESC LIMIT 1",
+                         (participant,)).fetchone()
+        return {**dict(row), "summary": json.loads(row["summary"])} if row else None
+
+    # -- sessions -----------------------------------------------------------------------------------------------
+    def sessions(self, db, protocol: str | None = None, participant: str | None = None,
+                 status: str | None = None) -> list[dict]:
+        query = ("SELECT s.id, s.protocol_file, s.participant, s.status, s.started_at, s.ended_at, d.name AS display "
+                 "FROM sessions s JOIN displays d ON d.id = s.display_id WHERE 1 = 1")
+        args = []
+        for column, value in (("s.protocol_file", protocol), ("s.participant", participant), ("s.status", status)):
+            if value:
+                query += f" AND {column} = ?"
+                args.append(value)
+        return [dict(row) for row in db.execute(query + " ORDER BY s.id DESC", args)]
+
+
+def text_sha256(text: str) -> str:
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()
