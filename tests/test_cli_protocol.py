@@ -70,3 +70,40 @@ def test_bad_participant_exits_2(profile_path, capsys):
     assert main(["audit", str(PROTOCOLS / "afterimage_null.json"), "--display", str(profile_path),
                  "--participant", "0"]) == 2
     assert "--participant" in capsys.readouterr().err
+
+
+def test_audit_resolves_a_stored_observer_adjustment_from_the_data_folder(profile_path, tmp_path, capsys):
+    from stimlab.sessions.store import Store
+
+    store = Store(tmp_path / "data")
+    db = store.connect()
+    # Invented weights for participant P07: an L/M weighting a little off the standard observer's.
+    store.add_adjustment(db, "P07", "ss2", {"ratio": 2.1, "w_L": 0.70, "w_M": 0.34})
+    db.close()
+    protocol = json.loads((PROTOCOLS / "afterimage_null.json").read_text())
+    protocol["about"]["observer"] = "adjusted:P07"
+    path = tmp_path / "adjusted.json"
+    path.write_text(json.dumps(protocol))
+    assert main(["audit", str(path), "--display", str(profile_path), "--max-age-days", "100000",
+                 "--data", str(tmp_path / "data"), "--json"]) in (0, 1)
+    out = capsys.readouterr().out
+    assert json.loads(out)["findings"] is not None
+    assert main(["compile", str(path), "--display", str(profile_path), "--data", str(tmp_path / "data"),
+                 "-o", str(tmp_path / "c.json")]) == 0
+    observer = json.loads((tmp_path / "c.json").read_text())["observer"]
+    assert observer["w_L"] == 0.70 and observer["w_M"] == 0.34 and "P07" in observer["adjustment"]
+
+
+def test_audit_of_an_adjusted_observer_names_the_missing_adjustment(profile_path, tmp_path, capsys):
+    from stimlab.sessions.store import Store
+
+    Store(tmp_path / "data").connect().close()
+    protocol = json.loads((PROTOCOLS / "afterimage_null.json").read_text())
+    protocol["about"]["observer"] = "adjusted:P99"
+    path = tmp_path / "adjusted.json"
+    path.write_text(json.dumps(protocol))
+    assert main(["audit", str(path), "--display", str(profile_path), "--data", str(tmp_path / "data")]) == 2
+    err = capsys.readouterr().err
+    assert "about.observer" in err and "'P99'" in err
+    assert main(["audit", str(path), "--display", str(profile_path), "--data", str(tmp_path / "none")]) == 2
+    assert "--data" in capsys.readouterr().err

@@ -6,9 +6,12 @@ import json
 from pathlib import Path
 
 from ..audit.preflight import KINDS, audit_protocol
+from ..errors import InputError
 from ..experiment.compile import compile_protocol
 from ..experiment.protocol import load_protocol
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, load_profile
+from ..sessions.observers import ADJUSTED_PREFIX, observer_for_protocol
+from ..sessions.store import Store, default_data_dir
 from .output import print_json
 
 HEADINGS = {"display": "Display", "gamut": "Gamut", "headroom": "Headroom", "bit_depth": "Bit depth",
@@ -22,6 +25,9 @@ def _common(parser) -> None:
     parser.add_argument("--participant", type=int, default=1,
                         help="participant number for Latin-square counterbalancing (default 1)")
     parser.add_argument("--seed", type=int, help="override the protocol's seed for trial order")
+    parser.add_argument("--data", metavar="DIR",
+                        help="the data folder of 'stimlab serve', for protocols whose observer is "
+                             "adjusted:<participant> (default ~/.local/share/stimlab)")
 
 
 def register(sub, numbers) -> None:
@@ -45,8 +51,27 @@ def _load(args):
     protocol = load_protocol(args.protocol)
     profile = load_profile(args.display)
     compiled = compile_protocol(protocol, profile, participant=args.participant, seed=args.seed,
-                                name=args.protocol)
+                                obs=_observer(args, protocol), name=args.protocol)
     return protocol, profile, compiled
+
+
+def _observer(args, protocol):
+    """A participant's stored adjustment from the data folder, or ``None`` for a standard observer."""
+    if not protocol["about"]["observer"].startswith(ADJUSTED_PREFIX):
+        return None
+    data = Path(args.data) if args.data else default_data_dir()
+    if not (data / "stimlab.sqlite").is_file():
+        raise InputError(f"no stimlab data folder at {data}; give the folder 'stimlab serve' uses with --data",
+                         field="--data")
+    store = Store(data)
+    db = store.connect()
+    try:
+        obs, _ = observer_for_protocol(store, db, protocol)
+    except InputError as error:
+        raise InputError(error.message, file=args.protocol, field=error.field) from None
+    finally:
+        db.close()
+    return obs
 
 
 def run_audit(args) -> int:

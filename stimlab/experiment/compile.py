@@ -196,8 +196,8 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
     about = protocol["about"]
     if obs is None:
         if about["observer"].startswith("adjusted:"):
-            raise InputError("this protocol uses a stored observer adjustment; compile it from the web app, which "
-                             "keeps the adjustments, or give a standard observer", file=name, field="about.observer")
+            raise InputError("this protocol uses a stored observer adjustment; give the data folder that keeps it "
+                             "(--data DIR) or a standard observer", file=name, field="about.observer")
         obs = standard_observer(about["observer"])
     if not profile.get("size_cm") or not profile.get("size_px"):
         raise InputError("the display profile has no screen size; rebuild it with --size-cm and --size-px",

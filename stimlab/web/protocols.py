@@ -9,6 +9,7 @@ from ..audit.preflight import audit_protocol
 from ..errors import InputError
 from ..experiment.compile import compile_protocol
 from ..experiment.protocol import CAUTION, protocol_sha256, validate_protocol
+from ..sessions.observers import observer_for_protocol
 from ..sessions.store import safe_protocol_name, text_sha256
 from . import current_store
 from .displays import _get, default_display_id
@@ -27,20 +28,7 @@ def _read(name: str):
 
 def observer_for(protocol: dict):
     """The observer a protocol asks for: ``None`` (standard, compile picks it) or a stored individual adjustment."""
-    from ..colorimetry.observers import observer
-
-    wanted = protocol["about"]["observer"]
-    if not wanted.startswith("adjusted:"):
-        return None, None
-    code = wanted.split(":", 1)[1]
-    adjustment = current_store().latest_adjustment(g.db, code)
-    if adjustment is None:
-        raise WebError(f"no observer adjustment is stored for participant {code!r}; run the flicker photometry "
-                       "protocol with them and save its result from the session page", field="about.observer")
-    standard = observer(adjustment["standard_observer"])
-    description = (f"flicker photometry, participant {code}, adjustment {adjustment['id']} of "
-                   f"{adjustment['created_at'][:10]} (L/M ratio {adjustment['ratio']:.4f})")
-    return standard.with_luminance_weights(adjustment["w_L"], adjustment["w_M"], description), adjustment["id"]
+    return observer_for_protocol(current_store(), g.db, protocol)
 
 
 def run_audit(protocol: dict, display_id: int, participant: int = 1) -> tuple[dict, object]:
