@@ -8,7 +8,6 @@ import numpy as np
 
 from ..colorimetry.display import DisplayModel
 from ..colorimetry.observers import OBSERVERS
-from ..colorimetry.stimulus import Background
 from ..colorimetry.transfer import TRANSFER_MODELS
 from ..errors import InputError
 from ..profiles.measurements import (
@@ -22,11 +21,10 @@ from ..profiles.profile import (
     DEFAULT_MAX_AGE_DAYS,
     build_profile,
     load_profile,
-    profile_age_days,
-    profile_warnings,
     save_profile,
     transfer_entry,
 )
+from ..profiles.summary import display_summary
 
 
 def register(sub, numbers) -> None:
@@ -106,31 +104,28 @@ def run_build(args) -> int:
 
 def run_show(args) -> int:
     profile = load_profile(args.profile)
-    model = DisplayModel(profile, args.observer)
-    background = Background(model, [0.5, 0.5, 0.5])
-    print(f"{profile['name']}  (sha256 {profile['sha256'][:12]}…)")
-    print(f"  measured by {profile.get('measured_by') or 'unknown'} on {profile['measured_on']}, "
-          f"{profile_age_days(profile)} days ago")
-    px = profile.get("size_px") or ["?", "?"]
-    cm = profile.get("size_cm") or ["?", "?"]
-    print(f"  {profile['bits']} bits, {profile['refresh_hz']:g} Hz, {px[0]}×{px[1]} px, {cm[0]}×{cm[1]} cm")
-    print(f"  white {model.white_luminance:.2f} cd/m², black {model.black_luminance:.3f} cd/m² "
-          f"(observer {model.observer.key})")
+    summary = display_summary(profile, args.observer, args.max_age_days)
+    print(f"{summary['name']}  (sha256 {summary['sha256'][:12]}…)")
+    print(f"  measured by {summary['measured_by'] or 'unknown'} on {summary['measured_on']}, "
+          f"{summary['age_days']} days ago")
+    px = summary["size_px"] or ["?", "?"]
+    cm = summary["size_cm"] or ["?", "?"]
+    print(f"  {summary['bits']} bits, {summary['refresh_hz']:g} Hz, {px[0]}×{px[1]} px, {cm[0]}×{cm[1]} cm")
+    print(f"  white {summary['white_cd_m2']:.2f} cd/m², black {summary['black_cd_m2']:.3f} cd/m² "
+          f"(observer {summary['observer']})")
     print("  primaries (CIE 1931 xy):")
-    for channel, (x, y) in zip(CHANNELS, model.primaries_xy()):
+    for channel, (x, y) in summary["primaries_xy"].items():
         print(f"    {channel:5s} x {x:.4f}  y {y:.4f}")
     print("  transfer fits (residual as fraction of full output):")
-    for channel in CHANNELS:
-        entry = profile["transfer"][channel]
-        others = ", ".join(f"{k} {v['rms']:.4f}" for k, v in entry["alternatives"].items())
-        params = ", ".join(f"{k} {v:.4g}" for k, v in entry["parameters"].items() if not isinstance(v, list))
+    for channel, entry in summary["transfer"].items():
+        others = ", ".join(f"{k} {v:.4f}" for k, v in entry["alternatives"].items())
+        params = ", ".join(f"{k} {v:.4g}" for k, v in entry["parameters"].items())
         print(f"    {channel:5s} {entry['model']} ({params or 'table'}) rms {entry['rms']:.4f}; others: {others}")
     print("  largest contrast along each DKL axis from the mid-grey background (pooled cone contrast):")
-    for axis, (low, high) in zip(("lum", "L-M", "S"), background.DKL_limits):
+    for axis, (low, high) in summary["dkl_limits"].items():
         print(f"    {axis:4s} {low:+.4f} … {high:+.4f}")
-    described = background.describe(background.LMS_0)
-    q = described["quantisation_cone_contrast"]
+    q = summary["quantisation_cone_contrast"]
     print(f"  one digital level at the background = cone contrast L {q[0]:.5f}, M {q[1]:.5f}, S {q[2]:.5f}")
-    for warning in profile_warnings(profile, args.max_age_days):
+    for warning in summary["warnings"]:
         print(f"  WARNING: {warning}")
     return 0

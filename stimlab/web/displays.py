@@ -10,41 +10,15 @@ from ..colorimetry.transfer import TRANSFER_MODELS
 from ..errors import InputError
 from ..profiles.measurements import CHANNELS, parse_spectra, parse_transfer
 from ..profiles.profile import (
-    DEFAULT_MAX_AGE_DAYS,
     build_profile,
-    profile_age_days,
-    profile_warnings,
     transfer_entry,
 )
+from ..profiles.summary import display_summary
 from . import current_store
 from .errors import NotFound, WebError
 from .plots import dkl_plane_plot, macleod_boynton_plot, transfer_plot
 
 blueprint = Blueprint("displays", __name__)
-
-
-def summary(profile: dict) -> dict:
-    """What a technician checks first about a display, as plain numbers."""
-    model = DisplayModel(profile)
-    background = Background(model, [0.5, 0.5, 0.5])
-    described = background.describe(background.LMS_0)
-    return {
-        "name": profile["name"], "sha256": profile["sha256"], "bits": profile["bits"],
-        "refresh_hz": profile["refresh_hz"], "size_px": profile.get("size_px"), "size_cm": profile.get("size_cm"),
-        "measured_by": profile.get("measured_by"), "measured_on": profile["measured_on"],
-        "age_days": profile_age_days(profile), "white_cd_m2": model.white_luminance,
-        "black_cd_m2": model.black_luminance,
-        "primaries_xy": {c: xy.tolist() for c, xy in zip(CHANNELS, model.primaries_xy())},
-        "dkl_limits": {axis: limits.tolist() for axis, limits in zip(("lum", "L-M", "S"), background.DKL_limits)},
-        "quantisation_cone_contrast": described["quantisation_cone_contrast"],
-        "approximate": model.is_approximate,
-        "warnings": profile_warnings(profile, DEFAULT_MAX_AGE_DAYS),
-        "transfer": {c: {"model": profile["transfer"][c]["model"], "rms": profile["transfer"][c]["rms"],
-                         "max_abs": profile["transfer"][c]["max_abs"],
-                         "alternatives": {k: v["rms"] for k, v in profile["transfer"][c]["alternatives"].items()}}
-                     for c in CHANNELS},
-        "notes": profile.get("notes", []),
-    }
 
 
 def _get(display_id: int) -> dict:
@@ -127,7 +101,7 @@ def _text(upload, field: str) -> str:
 @blueprint.get("/displays")
 def index():
     displays = current_store().displays(g.db)
-    return render_template("displays.html", displays=[{**d, "summary": summary(d["profile"])} for d in displays])
+    return render_template("displays.html", displays=[{**d, "summary": display_summary(d["profile"])} for d in displays])
 
 
 @blueprint.get("/displays/new")
@@ -155,7 +129,7 @@ def show(display_id: int):
             for name, sign, lm, s in (("L−M", "+", background.DKL_limits[1, 1], 0), ("L−M", "−",
                                       background.DKL_limits[1, 0], 0), ("S", "+", 0, background.DKL_limits[2, 1]),
                                       ("S", "−", 0, background.DKL_limits[2, 0]))]
-    return render_template("display.html", display=display, summary=summary(profile),
+    return render_template("display.html", display=display, summary=display_summary(profile),
                            transfer=transfer_plot(profile), plane=dkl_plane_plot(background, axes),
                            mb=macleod_boynton_plot(model))
 
@@ -163,14 +137,14 @@ def show(display_id: int):
 # -- API ------------------------------------------------------------------------------------------------------
 @blueprint.get("/api/displays")
 def api_index():
-    return {"displays": [{k: v for k, v in d.items() if k != "profile"} | {"summary": summary(d["profile"])}
+    return {"displays": [{k: v for k, v in d.items() if k != "profile"} | {"summary": display_summary(d["profile"])}
                          for d in current_store().displays(g.db)]}
 
 
 @blueprint.get("/api/displays/<int:display_id>")
 def api_show(display_id: int):
     display = _get(display_id)
-    return {**{k: v for k, v in display.items() if k != "profile"}, "summary": summary(display["profile"]),
+    return {**{k: v for k, v in display.items() if k != "profile"}, "summary": display_summary(display["profile"]),
             "profile": display["profile"]}
 
 

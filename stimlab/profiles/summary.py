@@ -1,0 +1,58 @@
+"""A display profile in the numbers a technician checks first, shared by ``stimlab display show`` and the web app."""
+
+from __future__ import annotations
+
+from ..colorimetry.display import CHANNELS, DisplayModel
+from ..colorimetry.stimulus import Background
+from .profile import DEFAULT_MAX_AGE_DAYS, profile_age_days, profile_warnings
+
+__all__ = ["display_summary"]
+
+MID_GREY = (0.5, 0.5, 0.5)
+"""Linear RGB of the background the headroom and one-level figures are given for."""
+
+
+def display_summary(profile: dict, observer=None, max_age_days: int = DEFAULT_MAX_AGE_DAYS, today=None) -> dict:
+    """What a technician checks first about a display, as plain JSON-able numbers.
+
+    Parameters
+    ----------
+    profile
+        A checked display profile.
+    observer
+        Observer key or :class:`~stimlab.colorimetry.observers.Observer`; default the standard 2° observer.
+    max_age_days
+        Profiles older than this get a warning.
+    today
+        The date to measure the profile's age against (default today).
+
+    Returns
+    -------
+    dict
+        Name, hash, bits, refresh (Hz), size (px, cm), who measured it and when, age (days), white and black
+        luminance (cd/m²), primaries (CIE 1931 xy), the DKL headroom from mid-grey per axis (pooled cone
+        contrast, ``[low, high]``), one digital level in cone contrast at mid-grey, transfer fits with residuals
+        (fraction of full output), warnings and notes.
+    """
+    model = DisplayModel(profile) if observer is None else DisplayModel(profile, observer)
+    background = Background(model, MID_GREY)
+    described = background.describe(background.LMS_0)
+    return {
+        "name": profile["name"], "sha256": profile["sha256"], "bits": profile["bits"],
+        "refresh_hz": profile["refresh_hz"], "size_px": profile.get("size_px"), "size_cm": profile.get("size_cm"),
+        "measured_by": profile.get("measured_by"), "measured_on": profile["measured_on"],
+        "age_days": profile_age_days(profile, today), "observer": model.observer.key,
+        "white_cd_m2": model.white_luminance, "black_cd_m2": model.black_luminance,
+        "primaries_xy": {c: xy.tolist() for c, xy in zip(CHANNELS, model.primaries_xy())},
+        "dkl_limits": {axis: limits.tolist() for axis, limits in zip(("lum", "L-M", "S"), background.DKL_limits)},
+        "quantisation_cone_contrast": described["quantisation_cone_contrast"],
+        "approximate": model.is_approximate,
+        "warnings": profile_warnings(profile, max_age_days, today),
+        "transfer": {c: {"model": profile["transfer"][c]["model"], "rms": profile["transfer"][c]["rms"],
+                         "max_abs": profile["transfer"][c]["max_abs"],
+                         "parameters": {k: v for k, v in profile["transfer"][c]["parameters"].items()
+                                        if not isinstance(v, list)},
+                         "alternatives": {k: v["rms"] for k, v in profile["transfer"][c]["alternatives"].items()}}
+                     for c in CHANNELS},
+        "notes": profile.get("notes", []),
+    }
