@@ -24,7 +24,8 @@ def test_CIE_170_2_weights_reproduce_CIE_2008_LEF(key, lef):
 
 def test_smith_pokorny_weights_derived_against_judd_vos():
     # Smith & Pokorny (1975): L + M is the Judd–Vos V(λ). Least squares on colour-science's peak-normalised table
-    # gives weights near 0.637 and 0.392 with a residual of about 0.3 % of peak (SCIENCE.md, verified there).
+    # gives weights near 0.637 and 0.392 with a residual of about 0.3 % of peak
+    # (Smith & Pokorny 1975; Judd 1951 / Vos 1978 V(λ) as tabulated in colour-science).
     obs = observer("sp")
     judd_vos = LEFS["Judd-Vos Modified CIE 1978 Photopic Standard Observer"]
     V = np.interp(obs.wavelengths, judd_vos.wavelengths, judd_vos.values)
@@ -34,8 +35,8 @@ def test_smith_pokorny_weights_derived_against_judd_vos():
 
 
 @pytest.mark.parametrize("key, k_S", [
-    ("ss2", 0.0371598),  # SCIENCE.md, verified from colour-science's table (the CIE gives 0.0371597, from memory)
-    ("ss10", 0.0554793),  # SCIENCE.md, verified from colour-science's table
+    ("ss2", 0.0371598),  # max of S/V (CIE 170-2:2015 scaling) from colour-science's table; the CIE gives 0.0371597 (from memory)
+    ("ss10", 0.0554793),  # max of S/V (CIE 170-2:2015 scaling) from colour-science's table
 ])
 def test_macleod_boynton_s_scaling(key, k_S):
     obs = observer(key)

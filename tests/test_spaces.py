@@ -84,7 +84,7 @@ def test_spectrum_locus_s_peaks_at_one(demo_model):
     obs = demo_model.observer
     mb = LMS_to_MacLeod_Boynton(obs.lms[:300], obs.w_L, obs.w_M, obs.k_S)
     assert mb[:, 1].max() == pytest.approx(1.0)
-    assert obs.wavelengths[np.argmax(mb[:, 1])] == 418.0  # SCIENCE.md: max of S/V at 418 nm (verified)
+    assert obs.wavelengths[np.argmax(mb[:, 1])] == 418.0  # max of S/V at 418 nm: CIE 170-2:2015 scaling of MacLeod & Boynton (1979), computed from colour-science's table
 
 
 def test_round_trips_of_every_pair_of_spaces(demo_model):

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import math
 
-__all__ = ["degrees_to_cm", "eccentricity_to_cm", "pixels_per_cm", "disc_solid_angle", "rectangle_solid_angle",
+__all__ = ["degrees_to_cm", "eccentricity_to_cm", "disc_solid_angle", "rectangle_solid_angle",
            "screen_solid_angle", "TEN_DEGREE_FIELD_SR", "WCAG_FLASH_AREA_SR"]
 
 TEN_DEGREE_FIELD_SR = 2 * math.pi * (1 - math.cos(math.radians(5.0)))
@@ -32,11 +32,6 @@ def degrees_to_cm(size_deg: float, distance_cm: float) -> float:
 def eccentricity_to_cm(eccentricity_deg: float, distance_cm: float) -> float:
     """Distance on screen from the fixation point (screen centre) of an eccentricity, ``D·tan(e)``."""
     return distance_cm * math.tan(math.radians(eccentricity_deg))
-
-
-def pixels_per_cm(size_px, size_cm) -> float:
-    """Horizontal pixel density; square pixels are assumed (checked elsewhere against the vertical one)."""
-    return size_px[0] / size_cm[0]
 
 
 def disc_solid_angle(diameter_deg: float) -> float:

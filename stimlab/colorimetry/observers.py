@@ -28,7 +28,9 @@ from ._colour import colour
 __all__ = ["Observer", "OBSERVERS", "observer", "spectral_LMS_to_luminous_efficiency"]
 
 K_M = 683.0
-"""Maximum luminous efficacy, lm/W (CIE; the value SCIENCE.md's luminance formula uses)."""
+"""Maximum luminous efficacy of photopic vision, lm/W: the SI defines the candela through K_cd = 683 lm/W at
+540 × 10¹² Hz (BIPM SI Brochure, 9th ed., 2019; colour-science's ``CONSTANT_K_M``). Luminance in cd/m² is
+``K_M · ∫ radiance · V(λ) dλ``."""
 
 
 @dataclasses.dataclass(frozen=True)

@@ -19,7 +19,6 @@ import numpy as np
 
 __all__ = [
     "as_triplets",
-    "DKL_NORMALISATIONS",
     "LMS_to_cone_contrast",
     "cone_contrast_to_LMS",
     "matrix_DKL_directions",
@@ -30,8 +29,6 @@ __all__ = [
     "MacLeod_Boynton_to_LMS",
 ]
 
-DKL_NORMALISATIONS = ("pooled_cone_contrast", "display_maximum")
-"""DKL normalisations: Brainard's unit pooled cone contrast, or 1 = the display's limit along each axis."""
 
 
 def as_triplets(values, name: str) -> np.ndarray:
