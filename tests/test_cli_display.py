@@ -126,3 +126,18 @@ def test_primaries_from_xyY(files, capsys):
     assert "approximate" in capsys.readouterr().out
     main(["convert", "--display", str(files / "xyY.json"), "--dkl", "0,0.02,0"])
     assert "approximation" in capsys.readouterr().out
+
+
+def test_convert_on_a_background_at_the_gamut_edge(files, capsys):
+    # Hand-computed from the RGB cube: from (1, 0.5, 0) the step (−0.1, +0.1, +0.05) fits ×5, limited by green.
+    build(files)
+    capsys.readouterr()
+    args = ["convert", "--display", str(files / "profile.json"), "--background", "1,0.5,0", "--rgb", "0.9,0.6,0.05"]
+    assert main(args + ["--json"]) == 0
+    result = json.loads(capsys.readouterr().out)
+    assert result["max_scale_in_gamut"] == pytest.approx(5.0)
+    assert result["limiting_channel"] == "green"
+    assert None in result["dkl_display_maximum"] and "gamut's edge" in result["dkl_display_maximum_note"]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    assert "undefined" in out and "×5.000" in out and "green" in out
