@@ -18,7 +18,7 @@ import numpy as np
 
 from .errors import InputError
 from .measurements import CHANNELS
-from .transfer import TRANSFER_MODELS, fit_transfer
+from .transfer import TRANSFER_MODELS, fit_transfer, reading_sigma
 
 __all__ = [
     "FORMAT_VERSION",
@@ -93,11 +93,13 @@ def transfer_entry(levels, luminance, bits: int, model: str = "gog") -> dict:
     levels = np.asarray(levels, dtype=float)
     luminance = np.asarray(luminance, dtype=float)
     x = levels / (2**bits - 1)
-    y = (luminance - luminance[0]) / (luminance[-1] - luminance[0])
+    span = luminance[-1] - luminance[0]
+    y = (luminance - luminance[0]) / span
+    sigma = reading_sigma(luminance) / span
     fits = {}
     for name in TRANSFER_MODELS:
         try:
-            fit = fit_transfer(x, y, name)
+            fit = fit_transfer(x, y, name, sigma)
         except ValueError as error:
             if name == model:
                 raise InputError(str(error), field="transfer") from None
