@@ -102,11 +102,14 @@ def profile_from_readings(plan: list[dict], readings: list[dict], *, name: str, 
     for i, channel in enumerate(CHANNELS):
         points = sorted((s["device"][i], r["luminance"]) for s, r in pairs if s.get("channel") == channel)
         levels = np.array([0] + [p[0] for p in points], dtype=float)
-        luminance = np.maximum.accumulate(np.array([black["luminance"]] + [p[1] for p in points]))
+        luminance = np.array([black["luminance"]] + [p[1] for p in points])
         y = (luminance - luminance[0]) / (luminance[-1] - luminance[0])
         best, scores[channel] = recommend_model(levels / d_max, y,
                                                 reading_sigma(luminance) / (luminance[-1] - luminance[0]))
-        transfer[channel] = transfer_entry(levels, luminance, bits, model or best)
+        try:
+            transfer[channel] = transfer_entry(levels, luminance, bits, model or best)
+        except InputError as error:
+            raise InputError(f"channel {channel}: {error.message}", field="readings") from None
         transfer[channel]["recommended"] = best
     chromaticities = None
     if spectra is None:

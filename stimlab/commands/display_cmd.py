@@ -11,7 +11,7 @@ from ..errors import InputError
 from ..measurements import CHANNELS, parse_black, parse_spectra, parse_transfer, read_text
 from ..observers import OBSERVERS
 from ..profile import (DEFAULT_MAX_AGE_DAYS, build_profile, load_profile, profile_age_days, profile_warnings,
-                       save_profile, transfer_entry)
+                       save_profile, transfer_entry, transfer_warnings)
 from ..stimulus import Background
 from ..transfer import TRANSFER_MODELS
 
@@ -67,7 +67,7 @@ def run_build(args) -> int:
         if args.black_xyY:
             chromaticities["black"] = args.black_xyY
     transfer_text = read_text(args.transfer)
-    measurements = parse_transfer(transfer_text, args.bits, name=args.transfer)
+    measurements = parse_transfer(transfer_text, args.bits, name=args.transfer, model=args.model)
     transfer = {}
     for channel, (levels, luminance) in measurements.items():
         try:
@@ -88,6 +88,8 @@ def run_build(args) -> int:
               "(fraction of full output)")
     for note in profile["notes"]:
         print(f"  note: {note}")
+    for warning in transfer_warnings(profile):
+        print(f"  WARNING: {warning}")
     return 0
 
 
