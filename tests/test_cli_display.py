@@ -126,3 +126,55 @@ def test_primaries_from_xyY(files, capsys):
     assert "approximate" in capsys.readouterr().out
     main(["convert", "--display", str(files / "xyY.json"), "--dkl", "0,0.02,0"])
     assert "approximation" in capsys.readouterr().out
+
+
+def test_convert_on_a_background_at_the_gamut_edge(files, capsys):
+    # Hand-computed from the RGB cube: from (1, 0.5, 0) the step (−0.1, +0.1, +0.05) fits ×5, limited by green.
+    build(files)
+    capsys.readouterr()
+    args = ["convert", "--display", str(files / "profile.json"), "--background", "1,0.5,0", "--rgb", "0.9,0.6,0.05"]
+    assert main(args + ["--json"]) == 0
+    result = json.loads(capsys.readouterr().out)
+    assert result["max_scale_in_gamut"] == pytest.approx(5.0)
+    assert result["limiting_channel"] == "green"
+    assert None in result["dkl_display_maximum"] and "gamut's edge" in result["dkl_display_maximum_note"]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    assert "undefined" in out and "×5.000" in out and "green" in out
+
+
+# A flat, noisy toe: the red reading falls from 0.35294 to 0.35085 cd/m² (0.6 %) at level 32, row 4 of the file,
+# and level 59 (0.3525) stays below 0.35294 too.
+# The tolerance it must fall within (2 % of the reading + 0.015 cd/m²) is the stated noise model, common practice.
+TOE = TRANSFER.replace("red,11,0.3500", "red,11,0.35294").replace("red,32,0.3500", "red,32,0.35085")
+
+
+@pytest.mark.parametrize("model", ["gog", "power"])
+def test_fitted_models_accept_a_noisy_toe_and_report_it(files, capsys, model):
+    edit(files, "transfer.csv", TOE)
+    assert build(files, "--model", model) == 0
+    out = capsys.readouterr().out
+    assert "WARNING: red readings fall at level(s) 32, 59" in out
+    profile = json.loads((files / "profile.json").read_text())
+    assert profile["transfer"]["red"]["falls"] == [{"level": 32, "from_cd_m2": 0.35294, "to_cd_m2": 0.35085},
+                                                   {"level": 59, "from_cd_m2": 0.35294, "to_cd_m2": 0.3525}]
+    assert "falls" not in profile["transfer"]["green"]
+    assert main(["display", "show", str(files / "profile.json")]) == 0
+    assert "WARNING: red readings fall at level(s) 32, 59" in capsys.readouterr().out
+
+
+def test_table_model_names_the_rows_that_break_monotonicity_and_offers_the_fitted_models(files, capsys):
+    edit(files, "transfer.csv", TOE.replace("red,91,0.3823", "red,91,0.3400"))
+    assert build(files, "--model", "table") == 2
+    message = _error(capsys)
+    assert "row 4 (level 32: 0.35294 → 0.35085 cd/m²)" in message
+    assert "row 5 (level 59: 0.35294 → 0.3525 cd/m²)" in message
+    assert "row 6 (level 91: 0.35294 → 0.34 cd/m²)" in message
+    assert "--model gog" in message and "--model power" in message
+
+
+def test_a_fall_beyond_noise_is_refused_for_every_model(files, capsys):
+    # 0.9 → 0.5 cd/m² is far beyond 2 % + 0.015 cd/m².
+    edit(files, "transfer.csv", TRANSFER.replace("red,212,0.9084", "red,212,0.5"))
+    assert build(files, "--model", "gog") == 2
+    assert "more than measurement noise" in _error(capsys)

@@ -44,7 +44,23 @@ def test_bright_flicker_above_the_dark_limit_is_not_a_general_flash():
 
 def test_steady_and_single_step_signals_have_no_flash():
     assert general(np.full(120, 0.5)) == 0
-    assert general(np.r_[np.full(60, 0.1), np.full(60, 0.9)]) == 0  # one transition is half a flash
+    # One transition is half a flash; counted conservatively as a flash in progress (DEVELOPERS.md's reading of
+    # WCAG 2.2), it is one flash, far below the limit of three.
+    assert general(np.r_[np.full(60, 0.1), np.full(60, 0.9)]) == 1
+
+
+@pytest.mark.parametrize("transitions, flashes", [(6, 3), (7, 4), (8, 4)])
+def test_an_odd_transition_in_a_second_counts_as_a_flash(transitions, flashes):
+    # WCAG 2.2 SC 2.3.1 allows no more than three flashes in any one-second period; a flash is a pair of opposing
+    # changes (the definition of general flash and red flash thresholds). Read conservatively, a leftover odd
+    # transition is a flash in progress: 6 transitions are 3 flashes (pass), 7 and 8 are 4 (more than three).
+    # Transitions every 8 frames at 60 Hz, all inside one second: 0.1 ↔ 0.6 relative luminance.
+    levels = np.where(np.arange(transitions + 1) % 2 == 0, 0.1, 0.6)
+    signal = np.r_[np.repeat(levels, 8), np.full(60, levels[-1])]
+    frames = general_flash_transitions(signal)
+    assert frames.size == transitions
+    assert max_flashes_per_second(frames, REFRESH)[0] == flashes
+    assert (max_flashes_per_second(frames, REFRESH)[0] > 3) == (transitions > 6)
 
 
 def test_turning_points_skip_plateaus_and_monotone_runs():
@@ -88,3 +104,22 @@ def test_harding_needs_a_change_of_more_than_20():
 def test_unknown_red_definition():
     with pytest.raises(ValueError, match="wcag22, harding"):
         red_flash_transitions(np.zeros((3, 3)), np.zeros((3, 2)), "iso")
+
+
+def test_wcag22_red_flash_found_from_chromaticity_when_R_minus_G_minus_B_is_constant(crt_profile):
+    # WCAG 2.2 / ISO 9241-391 red flash: one state with R/(R+G+B) ≥ 0.8 and the two states more than 0.2 apart in
+    # CIE 1976 u′v′. States (0.3, 0, 0) (pure red, ratio 1) and (1.0, 0, 0.7) (purple, ratio 0.59) have the same
+    # R − G − B = 0.3, so the red content max(0, R − G − B)·320 never changes; their u′v′ on colour-science's
+    # 'Typical CRT Brainard 1997' primaries (computed with colour.XYZ_to_xy / xy_to_Luv_uv) differ by more than 0.2.
+    from stimlab.colorimetry._colour import colour
+    from stimlab.colorimetry.display import DisplayModel
+
+    model = DisplayModel(crt_profile)
+    red, purple = np.array([0.3, 0.0, 0.0]), np.array([1.0, 0.0, 0.7])
+    assert red[0] - red[1] - red[2] == pytest.approx(purple[0] - purple[1] - purple[2])
+    RGB = red_sequence(5.0, red, purple)
+    uv = colour.xy_to_Luv_uv(colour.XYZ_to_xy(model.RGB_linear_to_XYZ(RGB)))
+    assert np.linalg.norm(uv[0] - uv[6]) > 0.2  # frames 0 and 6 are the two states
+    assert max_flashes_per_second(red_flash_transitions(RGB, uv, "wcag22"), REFRESH)[0] == 5
+    # The older Harding & Binnie definition is about the red content itself and stays as it is: no change, no flash.
+    assert max_flashes_per_second(red_flash_transitions(RGB, uv, "harding"), REFRESH)[0] == 0

@@ -20,7 +20,7 @@ def test_list_and_page(client):
     assert listing.status_code == 200 and "Vale Street B12 LCD" in listing.text
     page = client.get("/displays/1")
     assert page.status_code == 200
-    for text in ("Transfer curves", "isoluminant plane", "MacLeod–Boynton", "122.85 cd/m²", "One digital level"):
+    for text in ("Transfer curves", "isoluminant plane", "MacLeod–Boynton", "122.86 cd/m²", "One digital level"):
         assert text in page.text
     assert page.text.count("<svg") >= 4
 

@@ -52,7 +52,7 @@ def test_html_pages_get_an_html_error_page(client):
 def test_an_internal_error_is_plain_words(app, client, monkeypatch):
     import stimlab.web.displays as displays
 
-    monkeypatch.setattr(displays, "summary", lambda profile: 1 / 0)
+    monkeypatch.setattr(displays, "display_summary", lambda profile: 1 / 0)
     response = client.get("/api/displays")
     assert_shape(response, 500)
     assert "nothing you had saved was changed" in response.get_json()["error"]["message"]

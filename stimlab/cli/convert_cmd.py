@@ -52,7 +52,7 @@ def run(args) -> int:
 
 
 def _row(label, values, fmt="{:+.5f}"):
-    return f"  {label:31s}" + "  ".join(fmt.format(v).rjust(11) for v in values)
+    return f"  {label:31s}" + "  ".join(("—" if v is None else fmt.format(v)).rjust(11) for v in values)
 
 
 def print_table(r: dict) -> None:
@@ -62,6 +62,8 @@ def print_table(r: dict) -> None:
     print(_row("cone contrast", r["cone_contrast"]))
     print(_row("DKL (pooled cone contrast)", r["dkl"]))
     print(_row("DKL (fraction of display max)", r["dkl_display_maximum"]))
+    if r["dkl_display_maximum_note"]:
+        print(f"  {'':31s}— undefined: {r['dkl_display_maximum_note']}")
     print(_row("LMS", r["lms"], "{:.4f}"))
     print(_row("MacLeod–Boynton l, s", r["macleod_boynton"], "{:.6f}"))
     print(_row("CIE 1931 xyY", r["xyY"], "{:.4f}"))

@@ -23,6 +23,7 @@ from ..profiles.profile import (
     load_profile,
     save_profile,
     transfer_entry,
+    transfer_warnings,
 )
 from ..profiles.summary import display_summary
 
@@ -78,7 +79,7 @@ def run_build(args) -> int:
         if args.black_xyY:
             chromaticities["black"] = args.black_xyY
     transfer_text = read_text(args.transfer)
-    measurements = parse_transfer(transfer_text, args.bits, name=args.transfer)
+    measurements = parse_transfer(transfer_text, args.bits, name=args.transfer, model=args.model)
     transfer = {}
     for channel, (levels, luminance) in measurements.items():
         try:
@@ -99,6 +100,8 @@ def run_build(args) -> int:
               "(fraction of full output)")
     for note in profile["notes"]:
         print(f"  note: {note}")
+    for warning in transfer_warnings(profile):
+        print(f"  WARNING: {warning}")
     return 0
 
 

@@ -30,10 +30,16 @@ from .spaces import (
     matrix_DKL_directions,
 )
 
-__all__ = ["Background", "COLOUR_SPACES"]
+__all__ = ["Background", "COLOUR_SPACES", "DKL_AXES"]
 
 COLOUR_SPACES = ("cone_contrast", "dkl", "dkl_display_maximum", "macleod_boynton", "lms", "rgb_linear")
 """Spaces a colour can be given in; the first five are relative to (or scaled by) the background."""
+
+DKL_AXES = ("lum", "L-M", "S")
+"""Names of the DKL axes, in coordinate order."""
+
+_BLOCKED_SCALE = 1e-12
+"""A positive-axis gamut scale at or below this (pooled cone contrast units) means no room at all."""
 
 
 class Background:
@@ -47,6 +53,15 @@ class Background:
         Background linear RGB, shape (3,), inside the gamut.
     field
         Name to use in error messages for where the background came from.
+
+    Attributes
+    ----------
+    DKL_limits : ndarray (3, 2)
+        Gamut limits along each DKL axis (rows lum, L−M, S; negative and positive side), in units of the
+        pooled-cone-contrast unit directions.
+    blocked_DKL_axes : tuple of int
+        Axes whose positive limit is 0: the background sits on the gamut's edge there (a channel at 0 or full
+        drive), so "fraction of the display maximum" is undefined along them (:meth:`display_maximum_note`).
     """
 
     def __init__(self, model: DisplayModel, RGB_0, field: str = "background"):
@@ -62,6 +77,7 @@ class Background:
         obs = model.observer
         self.D = matrix_DKL_directions(self.LMS_0, obs.w_L, obs.w_M)
         self.DKL_limits = DKL_axis_limits(model, RGB_0, self.D)
+        self.blocked_DKL_axes = tuple(int(a) for a in np.flatnonzero(self.DKL_limits[:, 1] <= _BLOCKED_SCALE))
 
     @classmethod
     def from_LMS(cls, model: DisplayModel, LMS_0, field: str = "background") -> "Background":
@@ -83,12 +99,12 @@ class Background:
     def _conversions(self, space: str):
         """``(to_LMS, from_LMS)`` for ``space``."""
         obs = self.model.observer
-        w, LMS_0, maximum = (obs.w_L, obs.w_M), self.LMS_0, self.DKL_limits[:, 1]
+        w, LMS_0 = (obs.w_L, obs.w_M), self.LMS_0
         table = {
             "cone_contrast": (lambda v: cone_contrast_to_LMS(v, LMS_0), lambda v: LMS_to_cone_contrast(v, LMS_0)),
             "dkl": (lambda v: DKL_to_LMS(v, LMS_0, *w), lambda v: LMS_to_DKL(v, LMS_0, *w)),
-            "dkl_display_maximum": (lambda v: DKL_to_LMS(v, LMS_0, *w, limits=maximum),
-                                    lambda v: LMS_to_DKL(v, LMS_0, *w, limits=maximum)),
+            "dkl_display_maximum": (lambda v: DKL_to_LMS(self._display_maximum_to_DKL(v), LMS_0, *w),
+                                    self._LMS_to_display_maximum),
             "macleod_boynton": (lambda v: MacLeod_Boynton_to_LMS(v, *w, obs.k_S),
                                 lambda v: LMS_to_MacLeod_Boynton(v, *w, obs.k_S)),
             "lms": (lambda v: np.asarray(v, dtype=float), lambda v: np.asarray(v, dtype=float)),
@@ -97,6 +113,50 @@ class Background:
         if space not in table:
             raise ValueError(f"unknown colour space {space!r}; choose one of: {', '.join(COLOUR_SPACES)}")
         return table[space]
+
+    def _display_maximum_to_DKL(self, values) -> np.ndarray:
+        """Pooled-normalisation DKL of coordinates given as fractions of the display maximum.
+
+        Along a blocked axis (the background on the gamut's edge) only 0 is meaningful: there is no room at all.
+        """
+        values = as_triplets(values, "DKL (fraction of display maximum)")
+        for axis in self.blocked_DKL_axes:
+            if np.any(values[..., axis] != 0):
+                raise ValueError(f"DKL {DKL_AXES[axis]} as a fraction of the display maximum is undefined here: "
+                                 f"{self.display_maximum_note()}; give this colour in DKL or cone contrast")
+        return values * self._display_maximum_scale()
+
+    def _display_maximum_scale(self) -> np.ndarray:
+        """The positive-axis gamut limits, with 0 along blocked axes."""
+        limits = self.DKL_limits[:, 1].copy()
+        limits[list(self.blocked_DKL_axes)] = 0.0
+        return limits
+
+    def _LMS_to_display_maximum(self, LMS) -> np.ndarray:
+        """DKL as fractions of the display maximum; NaN along blocked axes, where it is undefined."""
+        pooled = LMS_to_DKL(LMS, self.LMS_0, self.model.observer.w_L, self.model.observer.w_M)
+        limits = self._display_maximum_scale()
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.where(limits > 0, pooled / np.where(limits > 0, limits, 1.0), np.nan)
+
+    def display_maximum_note(self) -> str | None:
+        """Why DKL as a fraction of the display maximum is undefined along some axes, or ``None`` if it is not.
+
+        The normalisation puts 1 at the gamut's edge along each positive axis from the background. A background
+        with a channel at 0 or at full drive can sit on that edge already: the limit is 0 and nothing can be
+        expressed as a fraction of it. Such a background is legitimate; only these coordinates are undefined.
+        """
+        if not self.blocked_DKL_axes:
+            return None
+        parts = []
+        for axis in self.blocked_DKL_axes:
+            delta_RGB = self.model.M_LMS_inverse @ self.D[:, axis]
+            _, channel = scale_limit(self.RGB_0, delta_RGB)
+            channel = int(channel)
+            edge = "full drive" if delta_RGB[channel] > 0 else "0"
+            parts.append(f"+{DKL_AXES[axis]} ({CHANNELS[channel]} channel already at {edge})")
+        return ("the background lies on the gamut's edge along " + ", ".join(parts)
+                + ": the display maximum there is 0, so the fraction of it is undefined")
 
     def colour_to_LMS(self, space: str, values) -> np.ndarray:
         """Cone excitations of a colour given in ``space`` (one of :data:`COLOUR_SPACES`), shape (..., 3)."""
@@ -112,11 +172,11 @@ class Background:
         Composing the chain into one affine map makes whole images cheap: one matrix product per pixel.
         """
         M_inverse = self.model.M_LMS_inverse
-        obs = self.model.observer
         if space == "dkl":
             return M_inverse @ self.D, self.RGB_0
         if space == "dkl_display_maximum":
-            return M_inverse @ matrix_DKL_directions(self.LMS_0, obs.w_L, obs.w_M, self.DKL_limits[:, 1]), self.RGB_0
+            # Blocked axes get a zero column; to_RGB_linear and to_device refuse a non-zero value along them.
+            return M_inverse @ (self.D * self._display_maximum_scale()), self.RGB_0
         if space == "cone_contrast":
             return M_inverse * self.LMS_0[None, :], self.RGB_0
         if space == "lms":
@@ -129,6 +189,8 @@ class Background:
         """Linear RGB of colours given in ``space``, shape (..., 3); may lie outside 0..1."""
         if space == "macleod_boynton":
             return self.model.LMS_to_RGB_linear(self.colour_to_LMS(space, values))
+        if space == "dkl_display_maximum":
+            self._display_maximum_to_DKL(values)
         A, b = self.affine_to_RGB_linear(space)
         RGB = as_triplets(values, space) @ A.T
         RGB += b
@@ -145,6 +207,8 @@ class Background:
         if space == "macleod_boynton":
             return RGB_linear_to_device(self.to_RGB_linear(space, values), self.model.level_outputs)
         values = as_triplets(values, space)
+        if space == "dkl_display_maximum":
+            self._display_maximum_to_DKL(values)
         A, b = self.affine_to_RGB_linear(space)
         RGB = A @ values.reshape(-1, 3).T  # channel-first (3, N): contiguous rows for the level search
         RGB += b[:, None]
@@ -175,7 +239,9 @@ class Background:
             "lms": LMS.tolist(),
             "cone_contrast": LMS_to_cone_contrast(LMS, self.LMS_0).tolist(),
             "dkl": LMS_to_DKL(LMS, self.LMS_0, obs.w_L, obs.w_M).tolist(),
-            "dkl_display_maximum": self.LMS_to_space("dkl_display_maximum", LMS).tolist(),
+            "dkl_display_maximum": [None if np.isnan(v) else float(v)
+                                    for v in self.LMS_to_space("dkl_display_maximum", LMS)],
+            "dkl_display_maximum_note": self.display_maximum_note(),
             "macleod_boynton": LMS_to_MacLeod_Boynton(LMS, obs.w_L, obs.w_M, obs.k_S)[:2].tolist(),
             "luminance_cd_m2": float(obs.w_L * LMS[0] + obs.w_M * LMS[1]),
             "xyY": colour.XYZ_to_xyY(XYZ).tolist(),

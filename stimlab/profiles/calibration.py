@@ -13,7 +13,7 @@ import numpy as np
 
 from ..colorimetry._colour import colour
 from ..colorimetry.display import DisplayModel
-from ..colorimetry.transfer import TRANSFER_MODELS, fit_transfer
+from ..colorimetry.transfer import TRANSFER_MODELS, fit_transfer, reading_sigma
 from ..errors import InputError
 from .measurements import CHANNELS
 from .profile import build_profile, transfer_entry
@@ -54,23 +54,27 @@ def measurement_plan(bits: int, levels_per_channel: int = 12) -> list[dict]:
     return steps
 
 
-def cross_validated_rms(x, y, model: str) -> float:
-    """Leave-one-out RMS prediction error of a transfer model (interior points; 0 and full drive are anchors)."""
+def cross_validated_rms(x, y, model: str, sigma=None) -> float:
+    """Leave-one-out RMS prediction error of a transfer model (interior points; 0 and full drive are anchors).
+
+    ``sigma`` is the standard error of each ``y`` (see :func:`stimlab.colorimetry.transfer.fit_transfer`).
+    """
     x, y = np.asarray(x, float), np.asarray(y, float)
+    sigma = None if sigma is None else np.broadcast_to(np.asarray(sigma, float), y.shape)
     errors = []
     for i in range(1, x.size - 1):
         keep = np.arange(x.size) != i
         try:
-            fitted = fit_transfer(x[keep], y[keep], model).model
+            fitted = fit_transfer(x[keep], y[keep], model, None if sigma is None else sigma[keep]).model
         except ValueError:
             return float("inf")
         errors.append(float(fitted.forward(x[i])) - y[i])
     return float(np.sqrt(np.mean(np.square(errors)))) if errors else float("inf")
 
 
-def recommend_model(x, y) -> tuple[str, dict]:
+def recommend_model(x, y, sigma=None) -> tuple[str, dict]:
     """The model that best predicts levels it was not fitted to (leave-one-out), and every model's score."""
-    scores = {name: cross_validated_rms(x, y, name) for name in TRANSFER_MODELS}
+    scores = {name: cross_validated_rms(x, y, name, sigma) for name in TRANSFER_MODELS}
     return min(scores, key=scores.get), scores
 
 
@@ -98,10 +102,14 @@ def profile_from_readings(plan: list[dict], readings: list[dict], *, name: str, 
     for i, channel in enumerate(CHANNELS):
         points = sorted((s["device"][i], r["luminance"]) for s, r in pairs if s.get("channel") == channel)
         levels = np.array([0] + [p[0] for p in points], dtype=float)
-        luminance = np.maximum.accumulate(np.array([black["luminance"]] + [p[1] for p in points]))
+        luminance = np.array([black["luminance"]] + [p[1] for p in points])
         y = (luminance - luminance[0]) / (luminance[-1] - luminance[0])
-        best, scores[channel] = recommend_model(levels / d_max, y)
-        transfer[channel] = transfer_entry(levels, luminance, bits, model or best)
+        best, scores[channel] = recommend_model(levels / d_max, y,
+                                                reading_sigma(luminance) / (luminance[-1] - luminance[0]))
+        try:
+            transfer[channel] = transfer_entry(levels, luminance, bits, model or best)
+        except InputError as error:
+            raise InputError(f"channel {channel}: {error.message}", field="readings") from None
         transfer[channel]["recommended"] = best
     chromaticities = None
     if spectra is None:

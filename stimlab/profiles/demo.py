@@ -27,7 +27,7 @@ def demo_profile(measured_on: str = DEMO_MEASURED_ON, model: str = "gog") -> dic
     wavelengths, primaries, black = parse_spectra(demo_file("vale_street_b12_spectra.csv"),
                                                   "vale_street_b12_spectra.csv")
     measurements = parse_transfer(demo_file("vale_street_b12_transfer.csv"), DEMO_BITS,
-                                  "vale_street_b12_transfer.csv")
+                                  "vale_street_b12_transfer.csv", model)
     transfer = {c: transfer_entry(levels, lum, DEMO_BITS, model) for c, (levels, lum) in measurements.items()}
     return build_profile(DEMO_DISPLAY_NAME, transfer=transfer, bits=DEMO_BITS, refresh_hz=60.0,
                          spectra=(wavelengths, primaries, black), size_cm=(53.1, 29.9), size_px=(1920, 1080),

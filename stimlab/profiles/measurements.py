@@ -7,6 +7,11 @@ Two formats, both plain CSV with a header row:
   at least 390–780 nm. A separate black file has ``wavelength_nm,black``.
 - transfer: ``channel,level,luminance_cd_m2`` with channel one of red, green, blue; each channel measured at
   level 0 and at full drive, and at levels in between.
+
+A real display's toe is flat, so its readings can fall slightly from one level to the next by noise alone. Only
+the table model needs monotone data; the fitted models (power, gain-offset-gamma) accept a fall of up to
+:data:`FALL_TOLERANCE_RELATIVE` of the highest reading so far plus :data:`FALL_TOLERANCE_CD_M2`, and the profile
+reports it (:func:`falls`).
 """
 
 from __future__ import annotations
@@ -21,10 +26,17 @@ import numpy as np
 from ..colorimetry.display import CHANNELS
 from ..errors import InputError
 
-__all__ = ["read_text", "parse_spectra", "parse_black", "parse_transfer", "CHANNELS", "SPECTRAL_RANGE_NM"]
+__all__ = ["read_text", "parse_spectra", "parse_black", "parse_transfer", "falls", "CHANNELS", "SPECTRAL_RANGE_NM",
+           "FALL_TOLERANCE_RELATIVE", "FALL_TOLERANCE_CD_M2"]
 
 SPECTRAL_RANGE_NM = (390.0, 780.0)
 """Range the spectra must cover: where the cone fundamentals and V(λ) are not negligible."""
+
+FALL_TOLERANCE_RELATIVE = 0.02
+FALL_TOLERANCE_CD_M2 = 0.015
+"""A fall below the highest reading so far of at most 2 % of it plus 0.015 cd/m² is taken as noise by the fitted
+models: about five standard deviations of the difference of two readings under the fit's noise model (0.3 % of the
+reading + 0.002 cd/m², :func:`stimlab.colorimetry.transfer.reading_sigma`). A larger fall is a fault to re-measure."""
 
 
 def read_text(path) -> str:
@@ -132,7 +144,42 @@ def parse_black(text: str, name: str = "black") -> tuple[np.ndarray, np.ndarray]
     return wavelengths, values[:, 0]
 
 
-def parse_transfer(text: str, bits: int, name: str = "transfer") -> dict[str, tuple[np.ndarray, np.ndarray]]:
+def falls(levels, luminance) -> list[dict]:
+    """Where readings fall below the highest reading at a lower level.
+
+    Parameters
+    ----------
+    levels
+        Digital levels, increasing.
+    luminance
+        Readings at those levels, cd/m².
+
+    Returns
+    -------
+    list of dict
+        One ``{"index", "level", "from_cd_m2", "to_cd_m2", "within_tolerance"}`` per falling reading, ``from`` being
+        the highest reading so far; ``within_tolerance`` applies :data:`FALL_TOLERANCE_RELATIVE` and
+        :data:`FALL_TOLERANCE_CD_M2`.
+
+    Examples
+    --------
+    >>> [f["level"] for f in falls([0, 16, 24, 32], [0.35, 0.35294, 0.35085, 0.36])]
+    [24]
+    """
+    levels = np.asarray(levels, dtype=float)
+    luminance = np.asarray(luminance, dtype=float)
+    highest = np.maximum.accumulate(luminance)
+    found = []
+    for i in np.flatnonzero(luminance[1:] < highest[:-1]) + 1:
+        top = float(highest[i - 1])
+        found.append({"index": int(i), "level": int(levels[i]), "from_cd_m2": top, "to_cd_m2": float(luminance[i]),
+                      "within_tolerance": bool(top - luminance[i]
+                                               <= FALL_TOLERANCE_RELATIVE * top + FALL_TOLERANCE_CD_M2)})
+    return found
+
+
+def parse_transfer(text: str, bits: int, name: str = "transfer",
+                   model: str = "gog") -> dict[str, tuple[np.ndarray, np.ndarray]]:
     """Parse transfer measurements from CSV text.
 
     Parameters
@@ -141,6 +188,11 @@ def parse_transfer(text: str, bits: int, name: str = "transfer") -> dict[str, tu
         CSV with header ``channel,level,luminance_cd_m2``.
     bits
         Bit depth of the display; levels must lie in 0..2^bits − 1.
+    name
+        What to call the file in messages.
+    model
+        The transfer model the readings are for. ``"table"`` needs monotone readings: any fall is refused, naming
+        every row that breaks it. The fitted models accept falls within the tolerance (:func:`falls`).
 
     Returns
     -------
@@ -172,12 +224,20 @@ def parse_transfer(text: str, bits: int, name: str = "transfer") -> dict[str, tu
             raise InputError(f"channel {channel} level {dup[0]} is measured twice; average the repeats",
                              file=name, row=dup[2], field="level")
         luminance = np.array([p[1] for p in points])
-        drops = np.flatnonzero(np.diff(luminance) < 0)
-        if drops.size:
-            bad = points[int(drops[0]) + 1]
-            raise InputError(f"channel {channel} luminance falls from {points[int(drops[0])][1]:g} to {bad[1]:g} "
-                             f"cd/m² at level {bad[0]}; transfer data must be monotone (re-measure that level)",
-                             file=name, row=bad[2], field="luminance_cd_m2")
+        found = falls(levels, luminance)
+        if found and model == "table":
+            rows = "; ".join(f"row {points[f['index']][2]} (level {f['level']}: {f['from_cd_m2']:g} → "
+                             f"{f['to_cd_m2']:g} cd/m²)" for f in found)
+            raise InputError(f"channel {channel} luminance falls at {rows}; the table model needs monotone data. "
+                             "Use --model gog or --model power, which fit a curve through the noise, or re-measure "
+                             "those levels", file=name, row=points[found[0]["index"]][2], field="luminance_cd_m2")
+        beyond = [f for f in found if not f["within_tolerance"]]
+        if beyond:
+            f = beyond[0]
+            raise InputError(f"channel {channel} luminance falls from {f['from_cd_m2']:g} to {f['to_cd_m2']:g} "
+                             f"cd/m² at level {f['level']}, more than measurement noise "
+                             f"({FALL_TOLERANCE_RELATIVE:.0%} of the reading + {FALL_TOLERANCE_CD_M2:g} cd/m²); "
+                             "re-measure that level", file=name, row=points[f["index"]][2], field="luminance_cd_m2")
         if luminance[-1] <= luminance[0]:
             raise InputError(f"channel {channel} is no brighter at full drive than at 0", file=name,
                              field="luminance_cd_m2")

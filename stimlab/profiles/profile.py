@@ -16,9 +16,9 @@ from pathlib import Path
 
 import numpy as np
 
-from ..colorimetry.transfer import TRANSFER_MODELS, fit_transfer
+from ..colorimetry.transfer import TRANSFER_MODELS, fit_transfer, reading_sigma
 from ..errors import InputError
-from .measurements import CHANNELS
+from .measurements import CHANNELS, falls
 
 __all__ = [
     "FORMAT_VERSION",
@@ -32,6 +32,7 @@ __all__ = [
     "save_profile",
     "profile_age_days",
     "profile_warnings",
+    "transfer_warnings",
 ]
 
 FORMAT_VERSION = 1
@@ -92,24 +93,54 @@ def transfer_entry(levels, luminance, bits: int, model: str = "gog") -> dict:
                          field="model")
     levels = np.asarray(levels, dtype=float)
     luminance = np.asarray(luminance, dtype=float)
+    found = falls(levels, luminance)
+    if found and model == "table":
+        at = ", ".join(f"level {f['level']} ({f['from_cd_m2']:g} → {f['to_cd_m2']:g} cd/m²)" for f in found)
+        raise InputError(f"luminance falls at {at}; the table model needs monotone data: use the gog or power "
+                         "model, or re-measure those levels", field="transfer")
+    beyond = [f for f in found if not f["within_tolerance"]]
+    if beyond:
+        f = beyond[0]
+        raise InputError(f"luminance falls from {f['from_cd_m2']:g} to {f['to_cd_m2']:g} cd/m² at level "
+                         f"{f['level']}, more than measurement noise; re-measure that level", field="transfer")
     x = levels / (2**bits - 1)
-    y = (luminance - luminance[0]) / (luminance[-1] - luminance[0])
+    span = luminance[-1] - luminance[0]
+    y = (luminance - luminance[0]) / span
+    sigma = reading_sigma(luminance) / span
     fits = {}
     for name in TRANSFER_MODELS:
         try:
-            fit = fit_transfer(x, y, name)
+            fit = fit_transfer(x, y, name, sigma)
         except ValueError as error:
             if name == model:
                 raise InputError(str(error), field="transfer") from None
             continue
         fits[name] = {"parameters": fit.model.parameters(), "rms": fit.rms, "max_abs": fit.max_abs}
     chosen = fits.pop(model)
-    return {
+    entry = {
         "model": model,
         **chosen,
         "measured": {"level": [int(v) for v in levels], "luminance_cd_m2": [float(v) for v in luminance]},
         "alternatives": fits,
     }
+    if found:
+        entry["falls"] = [{k: f[k] for k in ("level", "from_cd_m2", "to_cd_m2")} for f in found]
+    return entry
+
+
+def transfer_warnings(data: dict) -> list[str]:
+    """One warning per channel whose readings fall (within noise) and were fitted through, for every report."""
+    warnings = []
+    for channel in CHANNELS:
+        entry = data["transfer"][channel]
+        found = entry.get("falls") or []
+        if found:
+            largest = max(f["from_cd_m2"] - f["to_cd_m2"] for f in found)
+            levels = ", ".join(str(f["level"]) for f in found)
+            warnings.append(f"{channel} readings fall at level(s) {levels} (by up to {largest:.4g} cd/m², within "
+                            f"measurement noise); the {entry['model']} fit smooths over them: check the toe if "
+                            "dark stimuli matter")
+    return warnings
 
 
 def profile_hash(data: dict) -> str:
@@ -262,4 +293,5 @@ def profile_warnings(data: dict, max_age_days: int = DEFAULT_MAX_AGE_DAYS, today
         warnings.append(f"profile measured {age} days ago (more than {max_age_days}); recalibrate the display")
     if data["primaries"]["kind"] == "chromaticities":
         warnings.append("approximation: " + APPROXIMATION_NOTE)
+    warnings.extend(transfer_warnings(data))
     return warnings

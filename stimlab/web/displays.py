@@ -60,7 +60,7 @@ def profile_from_form(form, files) -> dict:
     upload = files.get("transfer")
     if upload is None or not upload.filename:
         raise InputError("choose the transfer measurements file (channel,level,luminance_cd_m2)", field="transfer")
-    measurements = parse_transfer(_text(upload, "transfer"), bits, upload.filename)
+    measurements = parse_transfer(_text(upload, "transfer"), bits, upload.filename, model)
     transfer = {}
     for channel, (levels, luminance) in measurements.items():
         try:
