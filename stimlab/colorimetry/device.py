@@ -9,6 +9,7 @@ them unless the caller clips first with :func:`clip_to_gamut`, which says what i
 from __future__ import annotations
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
 __all__ = [
     "RGB_linear_to_device_or_none",
@@ -24,8 +25,20 @@ GAMUT_TOLERANCE = 1e-9
 """Linear values this far outside 0..1 count as inside: floating-point noise, not a real excursion."""
 
 
-def is_within_gamut(RGB, tolerance: float = GAMUT_TOLERANCE) -> np.ndarray:
-    """Whether linear RGB lies inside the display's cube, shape (...,).
+def is_within_gamut(RGB: ArrayLike, tolerance: float = GAMUT_TOLERANCE) -> NDArray[np.bool_]:
+    """Whether each linear RGB colour lies inside the display's cube 0..1.
+
+    Parameters
+    ----------
+    RGB
+        Linear RGB, shape (..., 3): each channel the fraction of its primary's full-drive radiance above black.
+    tolerance
+        How far outside 0..1 a value may lie and still count as inside (default :data:`GAMUT_TOLERANCE`).
+
+    Returns
+    -------
+    ndarray of bool, shape (...,)
+        True where all three channels lie in ``[−tolerance, 1 + tolerance]``. NaN counts as outside.
 
     Examples
     --------
@@ -36,13 +49,30 @@ def is_within_gamut(RGB, tolerance: float = GAMUT_TOLERANCE) -> np.ndarray:
     return np.all((RGB >= -tolerance) & (RGB <= 1.0 + tolerance), axis=-1)
 
 
-def clip_to_gamut(RGB) -> tuple[np.ndarray, np.ndarray]:
+def clip_to_gamut(RGB: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.bool_]]:
     """Clip linear RGB into 0..1 and say which colours were changed.
+
+    Parameters
+    ----------
+    RGB
+        Linear RGB, shape (..., 3), any real values.
 
     Returns
     -------
-    clipped : ndarray (..., 3)
-    was_clipped : ndarray (...,) of bool
+    clipped : ndarray of float64, shape (..., 3)
+        Each channel clipped to 0..1 on its own (the hue of a clipped colour can change).
+    was_clipped : ndarray of bool, shape (...,)
+        True for each colour that lay outside the gamut by more than :data:`GAMUT_TOLERANCE`.
+
+    Notes
+    -----
+    Clipping changes the stimulus; callers report ``was_clipped`` wherever they clip, never clip silently.
+
+    Examples
+    --------
+    >>> clipped, was_clipped = clip_to_gamut([[0.2, 1.2, -0.1], [0.5, 0.5, 0.5]])
+    >>> clipped.tolist(), was_clipped.tolist()
+    ([[0.2, 1.0, 0.0], [0.5, 0.5, 0.5]], [True, False])
     """
     RGB = np.asarray(RGB, dtype=float)
     return np.clip(RGB, 0.0, 1.0), ~is_within_gamut(RGB)
@@ -65,11 +95,34 @@ def _refuse_out_of_gamut(RGB: np.ndarray) -> None:
                      "reduce the contrast, or clip explicitly and report it")
 
 
-def channel_first_to_device(RGB: np.ndarray, level_outputs: np.ndarray) -> np.ndarray:
+def channel_first_to_device(RGB: NDArray[np.float64], level_outputs: NDArray[np.float64]) -> NDArray[np.intp]:
     """Digital levels of linear RGB laid out channel-first, shape (3, N), returned as an (N, 3) view.
 
     The fast path for whole images: each channel is one contiguous row for ``np.searchsorted``, and the result
     is handed back transposed without a copy.
+
+    Parameters
+    ----------
+    RGB
+        Linear RGB 0..1, a float array of shape (3, N), channel-first (red, green, blue rows).
+    level_outputs
+        Normalised output of every level of every channel, 0..1, shape (3, 2^bits), increasing along each row.
+
+    Returns
+    -------
+    ndarray of intp, shape (N, 3)
+        Digital levels 0..2^bits − 1, a transposed view of a channel-first array.
+
+    Raises
+    ------
+    ValueError
+        If any value lies outside the gamut or is NaN or infinite.
+
+    Examples
+    --------
+    >>> outputs = np.tile((np.arange(256) / 255.0) ** 2, (3, 1))
+    >>> channel_first_to_device(np.array([[0.25, 0.0], [0.5, 1.0], [1.0, 0.01]]), outputs).tolist()
+    [[127, 180, 255], [0, 255, 25]]
     """
     _refuse_out_of_gamut(RGB)
     thresholds = _thresholds(level_outputs)
@@ -105,27 +158,32 @@ def _nearest_levels(thresholds: np.ndarray, values: np.ndarray) -> np.ndarray:
     return levels
 
 
-def RGB_linear_to_device(RGB, level_outputs: np.ndarray) -> np.ndarray:
+def RGB_linear_to_device(RGB: ArrayLike, level_outputs: NDArray[np.float64]) -> NDArray[np.intp]:
     """Digital levels whose output is nearest to linear RGB.
 
     Parameters
     ----------
     RGB
-        Linear RGB, shape (..., 3), inside the gamut.
+        Linear RGB, shape (..., 3), inside the gamut: 0..1 within :data:`GAMUT_TOLERANCE`.
     level_outputs
-        Normalised output of every level of every channel, shape (3, 2^bits)
+        Normalised output of every level of every channel, 0..1, shape (3, 2^bits), increasing along each row
         (:attr:`stimlab.colorimetry.display.DisplayModel.level_outputs`).
 
     Returns
     -------
     ndarray of int, shape (..., 3)
-        Levels 0..2^bits − 1.
+        Digital levels 0..2^bits − 1.
 
     Raises
     ------
     ValueError
         If any colour lies outside the gamut (clip first, and report it, if that is really wanted), or contains
         NaN or infinity.
+
+    Notes
+    -----
+    The level is nearest in light, not in drive: each channel's level is the one whose modelled output is
+    closest to the requested linear value (ties go to the lower level), which is exact for any transfer model.
 
     Examples
     --------
@@ -139,7 +197,8 @@ def RGB_linear_to_device(RGB, level_outputs: np.ndarray) -> np.ndarray:
     return channel_first_to_device(np.ascontiguousarray(RGB.reshape(-1, 3).T), level_outputs).reshape(RGB.shape)
 
 
-def RGB_linear_to_device_or_none(RGB, level_outputs: np.ndarray) -> tuple[list, np.ndarray]:
+def RGB_linear_to_device_or_none(RGB: ArrayLike,
+                                 level_outputs: NDArray[np.float64]) -> tuple[list[list[int] | None], NDArray[np.bool_]]:
     """Device levels of each colour that is in gamut, ``None`` for each that is not (never clipped).
 
     Parameters
@@ -151,9 +210,17 @@ def RGB_linear_to_device_or_none(RGB, level_outputs: np.ndarray) -> tuple[list, 
 
     Returns
     -------
-    tuple
-        A flat list with, per colour, its ``[r, g, b]`` device levels or ``None``; and the boolean in-gamut
-        array of shape (...).
+    device : list of (list of int or None)
+        A flat list with, per colour, its ``[r, g, b]`` digital levels (0..2^bits − 1) or ``None``.
+    inside : ndarray of bool, shape (...,)
+        Whether each colour is in gamut.
+
+    Examples
+    --------
+    >>> outputs = np.tile((np.arange(256) / 255.0) ** 2, (3, 1))
+    >>> device, inside = RGB_linear_to_device_or_none([[0.25, 0.5, 1.0], [1.1, 0.5, 0.5]], outputs)
+    >>> device, inside.tolist()
+    ([[127, 180, 255], None], [True, False])
     """
     RGB = np.asarray(RGB, dtype=float)
     inside = is_within_gamut(RGB)
@@ -163,8 +230,32 @@ def RGB_linear_to_device_or_none(RGB, level_outputs: np.ndarray) -> tuple[list, 
     return [row.tolist() if ok else None for row, ok in zip(levels.reshape(-1, 3), inside.reshape(-1))], inside
 
 
-def device_to_RGB_linear(levels, level_outputs: np.ndarray) -> np.ndarray:
-    """Linear RGB that digital levels produce, shape (..., 3)."""
+def device_to_RGB_linear(levels: ArrayLike, level_outputs: NDArray[np.float64]) -> NDArray[np.float64]:
+    """Linear RGB that digital levels produce.
+
+    Parameters
+    ----------
+    levels
+        Digital levels, shape (..., 3), whole numbers 0..2^bits − 1 (integers, or floats with integral values).
+    level_outputs
+        Normalised output of every level of every channel, 0..1, shape (3, 2^bits).
+
+    Returns
+    -------
+    ndarray of float64, shape (..., 3)
+        Linear RGB 0..1: the modelled output of each channel at its level.
+
+    Raises
+    ------
+    ValueError
+        If a level is not a whole number, is NaN or infinite, or lies outside 0..2^bits − 1.
+
+    Examples
+    --------
+    >>> outputs = np.tile((np.arange(256) / 255.0) ** 2, (3, 1))
+    >>> np.round(device_to_RGB_linear([128, 0, 255], outputs), 6).tolist()  # 128²/255² = 0.251965
+    [0.251965, 0.0, 1.0]
+    """
     levels = np.asarray(levels)
     d_max = level_outputs.shape[1] - 1
     if not np.issubdtype(levels.dtype, np.integer):
@@ -176,7 +267,8 @@ def device_to_RGB_linear(levels, level_outputs: np.ndarray) -> np.ndarray:
     return np.stack([level_outputs[c][levels[..., c]] for c in range(3)], axis=-1)
 
 
-def quantisation_cone_contrast(levels, level_outputs: np.ndarray, M_LMS: np.ndarray, LMS_0) -> np.ndarray:
+def quantisation_cone_contrast(levels: ArrayLike, level_outputs: NDArray[np.float64], M_LMS: NDArray[np.float64],
+                               LMS_0: ArrayLike) -> NDArray[np.float64]:
     """The cone-contrast grain of the display at given levels.
 
     For each cone class, the largest change of its contrast (against ``LMS_0``) that a one-level step of any
@@ -185,18 +277,30 @@ def quantisation_cone_contrast(levels, level_outputs: np.ndarray, M_LMS: np.ndar
     Parameters
     ----------
     levels
-        Digital levels, shape (..., 3).
+        Digital levels, shape (..., 3), whole numbers 0..2^bits − 1.
     level_outputs
-        Normalised output of every level, shape (3, 2^bits).
+        Normalised output of every level of every channel, 0..1, shape (3, 2^bits).
     M_LMS
-        Cone excitations of each primary, columns red, green, blue.
+        Cone excitations of each primary at full drive above black, shape (3, 3): rows L, M, S, columns red,
+        green, blue, in stimlab's cone units (``w_L·L + w_M·M`` in cd/m²).
     LMS_0
-        Background cone excitations, shape (3,).
+        Background cone excitations in the same units, shape (3,), each positive.
 
     Returns
     -------
-    ndarray, shape (..., 3)
-        Cone contrast of one level, for L, M and S.
+    ndarray of float64, shape (..., 3)
+        Cone contrast of one level, ≥ 0, for L, M and S.
+
+    Notes
+    -----
+    The grain is ``max over channels of |M_LMS[cone, channel]·Δ_channel| / LMS_0[cone]``, Δ being the change of
+    normalised output from the level to the next one up (at full drive, from the level below).
+
+    Examples
+    --------
+    >>> outputs = np.tile((np.arange(256) / 255.0) ** 2, (3, 1))
+    >>> np.round(quantisation_cone_contrast([128, 128, 128], outputs, np.eye(3), [0.25, 0.25, 0.25]), 6).tolist()
+    [0.015809, 0.015809, 0.015809]
     """
     levels = np.asarray(levels, dtype=np.int64)
     d_max = level_outputs.shape[1] - 1

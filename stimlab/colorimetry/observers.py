@@ -22,6 +22,7 @@ import dataclasses
 from functools import lru_cache
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
 from ._colour import colour
 
@@ -53,12 +54,18 @@ class Observer:
         MacLeod–Boynton S scaling: ``s = k_S·S / V``, chosen so that s peaks at 1 over the spectrum.
     adjustment
         ``None`` for the standard observer, or a description of an individual adjustment of ``w_L, w_M``.
+
+    Examples
+    --------
+    >>> obs = observer("ss10")
+    >>> obs.wavelengths.shape, obs.lms.shape, obs.adjustment
+    ((441,), (441, 3), None)
     """
 
     key: str
     name: str
-    wavelengths: np.ndarray
-    lms: np.ndarray
+    wavelengths: NDArray[np.float64]
+    lms: NDArray[np.float64]
     w_L: float
     w_M: float
     k_S: float
@@ -66,33 +73,97 @@ class Observer:
 
     @property
     def interval(self) -> float:
-        """Wavelength spacing of the grid, nm."""
+        """Wavelength spacing of the grid, nm (1 for the Stockman & Sharpe tables, 5 for Smith & Pokorny).
+
+        Examples
+        --------
+        >>> observer("ss2").interval, observer("sp").interval
+        (1.0, 5.0)
+        """
         return float(self.wavelengths[1] - self.wavelengths[0])
 
     @property
-    def luminous_efficiency(self) -> np.ndarray:
-        """``V(λ) = w_L·l̄ + w_M·m̄`` on the observer's grid, shape (N,)."""
+    def luminous_efficiency(self) -> NDArray[np.float64]:
+        """Luminous efficiency ``V(λ) = w_L·l̄ + w_M·m̄`` on the observer's grid, shape (N,), 0..1 (about).
+
+        For ``ss2`` and ``ss10`` this is the CIE 2008 2° or 10° physiologically relevant luminous efficiency
+        function (CIE 170-2:2015); for ``sp`` a least-squares fit to the Judd–Vos V(λ).
+
+        Examples
+        --------
+        >>> obs = observer("ss2")
+        >>> round(float(obs.luminous_efficiency[obs.wavelengths == 555.0][0]), 5)
+        0.99946
+        """
         return spectral_LMS_to_luminous_efficiency(self.lms, self.w_L, self.w_M)
 
-    def spectra_to_LMS(self, radiance: np.ndarray) -> np.ndarray:
+    def spectra_to_LMS(self, radiance: ArrayLike) -> NDArray[np.float64]:
         """Cone excitations of spectral radiance sampled on this observer's grid.
 
         Parameters
         ----------
         radiance
-            W·sr⁻¹·m⁻²·nm⁻¹, shape (..., N).
+            Spectral radiance, W·sr⁻¹·m⁻²·nm⁻¹, ≥ 0, shape (..., N), sampled at :attr:`wavelengths`.
 
         Returns
         -------
-        ndarray
-            L, M, S, shape (..., 3), scaled so that ``w_L·L + w_M·M`` is luminance in cd/m².
+        ndarray of float64, shape (..., 3)
+            L, M, S, scaled so that ``w_L·L + w_M·M`` is luminance in cd/m².
+
+        Notes
+        -----
+        ``LMS = K_M · Δλ · Σ radiance(λ)·lms(λ)``, a rectangle-rule integral with Δλ = :attr:`interval` and
+        K_M = 683 lm/W.
+
+        References
+        ----------
+        - CIE 170-2:2015, Fundamental chromaticity diagram with physiological axes, part 2.
+        - BIPM (2019). The International System of Units (SI), 9th ed. (K_cd = 683 lm/W).
+
+        Examples
+        --------
+        >>> obs = observer("ss2")
+        >>> radiance = np.where(obs.wavelengths == 555.0, 0.01, 0.0)  # 0.01 W·sr⁻¹·m⁻² in the 555 nm band
+        >>> L, M, S = obs.spectra_to_LMS(radiance)
+        >>> round(float(obs.w_L * L + obs.w_M * M), 4)  # 683 × 0.01 × V(555 nm) cd/m²
+        6.8263
         """
         return K_M * self.interval * np.asarray(radiance, dtype=float) @ self.lms
 
     def with_luminance_weights(self, w_L: float, w_M: float, description: str) -> "Observer":
         """This observer with individual luminance weights (e.g. from flicker photometry).
 
-        k_S is recomputed so that the MacLeod–Boynton s coordinate still peaks at 1.
+        Parameters
+        ----------
+        w_L, w_M
+            Luminance weights of the L and M fundamentals, finite and > 0 (the standard 2° values are 0.690
+            and 0.348).
+        description
+            How the weights were obtained, kept in :attr:`adjustment` (e.g. "flicker photometry, participant
+            P01").
+
+        Returns
+        -------
+        Observer
+            A copy with the new weights and ``k_S`` recomputed so that the MacLeod–Boynton s coordinate still
+            peaks at 1 over the spectrum; the fundamentals are shared, not copied.
+
+        Raises
+        ------
+        ValueError
+            If either weight is not a finite positive number.
+
+        References
+        ----------
+        - MacLeod, D. I. A., & Boynton, R. M. (1979). Chromaticity diagram showing cone excitation by stimuli of
+          equal luminance. JOSA, 69, 1183–1186.
+        - CIE 170-2:2015 (the s scaling).
+
+        Examples
+        --------
+        >>> adjusted = observer("ss2").with_luminance_weights(0.72, 0.31, "flicker photometry, participant P01")
+        >>> round(adjusted.k_S, 7), adjusted.adjustment
+        (0.0366992, 'flicker photometry, participant P01')
         """
         for label, value in (("w_L", w_L), ("w_M", w_M)):
             if not np.isfinite(value) or value <= 0:
@@ -101,19 +172,29 @@ class Observer:
                                    k_S=_k_S(self.lms, w_L, w_M), adjustment=description)
 
 
-def spectral_LMS_to_luminous_efficiency(lms: np.ndarray, w_L: float, w_M: float) -> np.ndarray:
+def spectral_LMS_to_luminous_efficiency(lms: ArrayLike, w_L: float, w_M: float) -> NDArray[np.float64]:
     """Luminous efficiency from cone fundamentals, ``V = w_L·L + w_M·M``.
 
     Parameters
     ----------
     lms
-        Cone fundamentals, shape (..., 3).
+        Cone fundamentals l̄, m̄, s̄ (energy units, each peaking at 1), shape (..., 3).
     w_L, w_M
-        Luminance weights.
+        Luminance weights, > 0.
+
+    Returns
+    -------
+    ndarray of float64, shape (...,)
+        V, about 0..1 for standard weights (peak 1 at about 555 nm). S cones add nothing.
+
+    References
+    ----------
+    CIE 170-2:2015: ``V(λ) = 0.68990272·l̄(λ) + 0.34832189·m̄(λ)`` (2°) and ``0.69283932·l̄ + 0.34967567·m̄`` (10°)
+    for the Stockman & Sharpe (2000) fundamentals.
 
     Examples
     --------
-    >>> spectral_LMS_to_luminous_efficiency(np.array([1.0, 1.0, 0.0]), 0.68990272, 0.34832189)
+    >>> float(spectral_LMS_to_luminous_efficiency(np.array([1.0, 1.0, 0.0]), 0.68990272, 0.34832189))
     1.03822461
     """
     lms = np.asarray(lms, dtype=float)
@@ -165,17 +246,39 @@ def observer(key: str = "ss2") -> Observer:
     Parameters
     ----------
     key
-        One of :data:`OBSERVERS`: ``ss2`` (default), ``ss10``, ``sp``.
+        One of :data:`OBSERVERS`: ``ss2`` (default; Stockman & Sharpe 2°, 390..830 nm at 1 nm), ``ss10``
+        (Stockman & Sharpe 10°, 390..830 nm at 1 nm), ``sp`` (Smith & Pokorny 2°, 380..780 nm at 5 nm).
+
+    Returns
+    -------
+    Observer
+        Cone fundamentals with their luminance weights and MacLeod–Boynton ``k_S``. The result is cached and
+        its tables are read-only, so every caller shares one copy.
 
     Raises
     ------
     ValueError
         For an unknown key, listing the valid ones.
 
+    Notes
+    -----
+    The weights of ``ss2`` and ``ss10`` are those of CIE 170-2:2015; those of ``sp`` are fitted so that
+    ``w_L·l̄ + w_M·m̄`` is the Judd–Vos V(λ), as Smith & Pokorny define their fundamentals. ``k_S`` is
+    ``1 / max(s̄/V)`` over the spectrum, so that the MacLeod–Boynton s coordinate peaks at 1.
+
+    References
+    ----------
+    - CIE 170-2:2015, Fundamental chromaticity diagram with physiological axes, part 2.
+    - Stockman, A., & Sharpe, L. T. (2000). Vision Research, 40, 1711–1737.
+    - Smith, V. C., & Pokorny, J. (1975). Vision Research, 15, 161–171.
+    - MacLeod, D. I. A., & Boynton, R. M. (1979). JOSA, 69, 1183–1186.
+
     Examples
     --------
     >>> round(observer("ss2").k_S, 7)
     0.0371598
+    >>> observer("ss2").w_L, observer("ss2").w_M
+    (0.68990272, 0.34832189)
     """
     if key not in _SOURCES:
         raise ValueError(f"unknown observer {key!r}; choose one of: {', '.join(OBSERVERS)}")

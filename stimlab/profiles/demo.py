@@ -15,7 +15,29 @@ DEMO_MEASURED_ON = "2026-11-24"
 
 
 def demo_file(name: str) -> str:
-    """Text of a file shipped in ``stimlab/data/demo``."""
+    """Text of a file shipped in ``stimlab/data/demo``.
+
+    Parameters
+    ----------
+    name
+        File name inside the folder, e.g. ``vale_street_b12_spectra.csv`` (primary and black spectra,
+        W·sr⁻¹·m⁻²·nm⁻¹) or ``vale_street_b12_transfer.csv`` (luminance in cd/m² at measured digital levels).
+
+    Returns
+    -------
+    str
+        The file's text, read as UTF-8.
+
+    Raises
+    ------
+    FileNotFoundError
+        If no such file ships with stimlab.
+
+    Examples
+    --------
+    >>> demo_file("vale_street_b12_transfer.csv").splitlines()[0]
+    'channel,level,luminance_cd_m2'
+    """
     return resources.files("stimlab.data.demo").joinpath(name).read_text(encoding="utf-8")
 
 
@@ -23,7 +45,37 @@ DEMO_BITS = 10
 
 
 def demo_profile(measured_on: str = DEMO_MEASURED_ON, model: str = "gog") -> dict:
-    """The demo display's profile (a 10-bit panel), built from its shipped measurement files."""
+    """The demo display's profile (a 10-bit panel), built from its shipped measurement files.
+
+    Parameters
+    ----------
+    measured_on
+        Measurement date recorded in the profile, ISO ``YYYY-MM-DD``.
+    model
+        Transfer model of every channel, a key of :data:`stimlab.colorimetry.transfer.TRANSFER_MODELS`
+        (``power``, ``gog`` or ``table``); the others are fitted too, for comparison.
+
+    Returns
+    -------
+    dict
+        A display profile as :func:`stimlab.profiles.profile.build_profile` makes it: digital levels 0..1023,
+        60 Hz, a 53.1 cm × 29.9 cm screen of 1920 × 1080 pixels, measured primary and black spectra.
+
+    Raises
+    ------
+    stimlab.errors.InputError
+        For an unknown transfer model, listing the valid ones.
+
+    Notes
+    -----
+    The display, its measurements and the laboratory are invented; the spectra are synthetic.
+
+    Examples
+    --------
+    >>> profile = demo_profile()
+    >>> profile["name"], profile["bits"], profile["size_px"], profile["transfer"]["red"]["model"]
+    ('Vale Street B12 LCD', 10, [1920, 1080], 'gog')
+    """
     wavelengths, primaries, black = parse_spectra(demo_file("vale_street_b12_spectra.csv"),
                                                   "vale_street_b12_spectra.csv")
     measurements = parse_transfer(demo_file("vale_street_b12_transfer.csv"), DEMO_BITS,
@@ -36,7 +88,29 @@ def demo_profile(measured_on: str = DEMO_MEASURED_ON, model: str = "gog") -> dic
 
 
 def install_demo(store) -> list[str]:
-    """Add the demo display and the shipped demo protocols to a data folder, where missing; return what was added."""
+    """Add the demo display and the shipped demo protocols to a data folder, where missing; return what was added.
+
+    Parameters
+    ----------
+    store
+        The data folder, a :class:`stimlab.sessions.store.Store`.
+
+    Returns
+    -------
+    list of str
+        The display's name if it was added, then the file name of each protocol copied. Nothing already in the
+        folder is replaced, so a second call adds nothing.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from stimlab.sessions.store import Store
+    >>> with tempfile.TemporaryDirectory() as folder:
+    ...     store = Store(folder)
+    ...     first, again = install_demo(store), install_demo(store)
+    >>> first[0], "afterimage_null.json" in first, again
+    ('Vale Street B12 LCD', True, [])
+    """
     import shutil
 
     added = []
