@@ -12,7 +12,8 @@ from ..measurements import CHANNELS, parse_black, parse_spectra, parse_transfer,
 from ..observers import OBSERVERS
 from ..profile import (DEFAULT_MAX_AGE_DAYS, build_profile, load_profile, profile_age_days, profile_warnings,
                        save_profile, transfer_entry, transfer_warnings)
-from ..stimulus import Background
+from ..rods import NOT_AVAILABLE
+from ..stimulus import DKL_AXES, Background
 from ..transfer import TRANSFER_MODELS
 
 
@@ -120,6 +121,15 @@ def run_show(args) -> int:
     described = background.describe(background.LMS_0)
     q = described["quantisation_cone_contrast"]
     print(f"  one digital level at the background = cone contrast L {q[0]:.5f}, M {q[1]:.5f}, S {q[2]:.5f}")
+    rods = model.rods
+    if rods is None:
+        print(f"  {NOT_AVAILABLE}")
+    else:
+        unit = model.M_LMS_inverse @ background.D
+        contrasts = ", ".join(f"{axis} {float(rods.contrast_of_change(unit[:, i], background.RGB_0)):+.4f}"
+                              for i, axis in enumerate(DKL_AXES))
+        print(f"  rods (CIE 1951 V′): white {float(rods.scotopic_luminance(np.ones(3))):.2f} scotopic cd/m²; rod "
+              f"contrast of each unit DKL stimulus from mid-grey: {contrasts}")
     for warning in profile_warnings(profile, args.max_age_days):
         print(f"  WARNING: {warning}")
     return 0

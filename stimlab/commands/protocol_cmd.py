@@ -12,7 +12,7 @@ from ..profile import DEFAULT_MAX_AGE_DAYS, load_profile
 from ..protocol import load_protocol
 
 HEADINGS = {"display": "Display", "gamut": "Gamut", "headroom": "Headroom", "bit_depth": "Bit depth",
-            "timing": "Timing", "prediction": "Predicted after-image / induction",
+            "timing": "Timing", "prediction": "Predicted after-image / induction", "rods": "Rod intrusion",
             "photosensitivity": "Photosensitivity", "geometry": "Geometry"}
 
 

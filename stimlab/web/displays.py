@@ -2,13 +2,15 @@
 
 from __future__ import annotations
 
+import numpy as np
 from flask import Blueprint, g, redirect, render_template, request, url_for
 
 from ..display import DisplayModel
 from ..errors import InputError
 from ..measurements import CHANNELS, parse_spectra, parse_transfer
 from ..profile import DEFAULT_MAX_AGE_DAYS, build_profile, profile_age_days, profile_warnings, transfer_entry
-from ..stimulus import Background
+from ..rods import NOT_AVAILABLE
+from ..stimulus import DKL_AXES, Background
 from ..transfer import TRANSFER_MODELS
 from . import current_store
 from .errors import WebError
@@ -38,6 +40,28 @@ def summary(profile: dict) -> dict:
                          "alternatives": {k: v["rms"] for k, v in profile["transfer"][c]["alternatives"].items()}}
                      for c in CHANNELS},
         "notes": profile.get("notes", []),
+        "rods": rods_summary(model, background),
+    }
+
+
+def rods_summary(model: DisplayModel, background: Background) -> dict:
+    """Rod intrusion at mid-grey: rod contrast of each DKL axis's unit stimulus and of a step of each primary.
+
+    ``available`` is false for a profile given as xyY (rod excitation needs spectra; nothing is guessed).
+    """
+    rods = model.rods
+    if rods is None:
+        return {"available": False, "note": NOT_AVAILABLE}
+    delta_axes = model.M_LMS_inverse @ background.D  # columns: ΔRGB of each unit DKL stimulus
+    return {
+        "available": True,
+        "background_scotopic_cd_m2": float(rods.scotopic_luminance(background.RGB_0)),
+        "white_scotopic_cd_m2": float(rods.scotopic_luminance(np.ones(3))),
+        "white_s_over_p": float(rods.scotopic_luminance(np.ones(3))) / model.white_luminance,
+        "dkl_unit": {axis: float(rods.contrast_of_change(delta_axes[:, i], background.RGB_0))
+                     for i, axis in enumerate(DKL_AXES)},
+        "primary_step": {c: float(rods.contrast_of_change(0.1 * np.eye(3)[i], background.RGB_0))
+                         for i, c in enumerate(CHANNELS)},
     }
 
 
