@@ -63,3 +63,14 @@ def test_a_new_calibration_of_the_same_display_is_a_new_version(client, demo):
     response = client.post("/api/displays", json={"profile": again}, headers={"X-CSRF-Token": client.csrf})
     assert response.get_json()["version"] == 2
     assert json.loads(json.dumps(client.get("/api/displays/1").get_json()))["version"] == 1
+
+
+def test_display_page_reports_rod_contrast(client):
+    # Rod contrast of each unit DKL stimulus from mid-grey (CIE 1951 scotopic V′, colour-science's dataset).
+    page = client.get("/displays/1")
+    assert "Rods at mid-grey" in page.text and "DKL S unit" in page.text and "scotopic cd/m²" in page.text
+    summary = client.get("/api/displays/1").get_json()["summary"]["rods"]
+    assert summary["available"] is True and set(summary["dkl_unit"]) == {"lum", "L-M", "S"}
+    # The luminance unit stimulus raises every cone by 1/√3 (Brainard 1996's normalisation) by scaling the light
+    # above black, so the rods rise by about as much (hand reasoning; 0.5 leaves room for the black's share).
+    assert summary["dkl_unit"]["lum"] > 0.5

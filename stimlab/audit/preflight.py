@@ -1,5 +1,5 @@
 """The pre-flight audit of a compiled protocol: gamut, headroom, bit depth, timing, predicted after-images and
-induction, photosensitivity and geometry, as one list of findings.
+induction, rod intrusion, photosensitivity and geometry, as one list of findings.
 
 Each finding is ``{"kind", "severity", "where", "message", "values"}`` with severity ``fail`` (the protocol must not
 run as it is), ``warn`` (it can run, but look) or ``info``. The audit passes when nothing fails.
@@ -13,13 +13,15 @@ from ..colorimetry.adaptation import induced_match_cone_contrast, null_cone_cont
 from ..colorimetry.device import device_to_RGB_linear
 from ..colorimetry.display import CHANNELS
 from ..colorimetry.gamut import scale_limit
+from ..colorimetry.rods import DEFAULT_MAX_ROD_CONTRAST, MESOPIC_UPPER_CD_M2, NOT_AVAILABLE
+from ..colorimetry.spaces import LMS_to_DKL
 from ..experiment.protocol import CAUTION
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, profile_warnings
 from .photosensitivity import analyse_condition
 
 __all__ = ["audit_protocol", "KINDS", "SEVERITIES"]
 
-KINDS = ("display", "gamut", "headroom", "bit_depth", "timing", "prediction", "photosensitivity", "geometry")
+KINDS = ("display", "gamut", "headroom", "bit_depth", "timing", "prediction", "rods", "photosensitivity", "geometry")
 SEVERITIES = ("fail", "warn", "info")
 
 
@@ -49,14 +51,16 @@ def audit_protocol(compiled, protocol: dict, profile: dict, *, max_age_days: int
     """Audit a compiled protocol; return ``{"passed", "findings", "counts", "caution"}``."""
     findings = _Findings()
     _display(findings, protocol, profile, max_age_days, today)
+    rods = _RodCheck(compiled, protocol, findings)
     for condition in compiled.data["conditions"]:
         index = condition["index"]
         label = condition["label"]
         for name, stimulus in compiled.stimuli[index].items():
             for key in ("colour", "second_colour"):
                 if key in stimulus:
-                    _colour(findings, compiled, stimulus, key, f"{label} / {name}" + ("" if key == "colour" else
-                                                                                     " (second colour)"))
+                    where = f"{label} / {name}" + ("" if key == "colour" else " (second colour)")
+                    _colour(findings, compiled, stimulus, key, where)
+                    rods.check(stimulus[key], where)
         response = compiled.responses[index]
         if response is not None:
             _response(findings, compiled, response, label)
@@ -121,6 +125,59 @@ def _colour(findings, compiled, stimulus, key, where):
         findings.add("bit_depth", severity, where,
                      f"shown cone contrast differs from the request by at most {error:.5f} (quantisation)",
                      requested=contrast.tolist(), shown=realised.tolist(), error=error)
+
+
+class _RodCheck:
+    """Rod contrast of every stimulus colour against the background, and the mesopic warning.
+
+    On a background below 5 cd/m² photopic (the upper mesopic limit, CIE 191:2010) rods add to what a stimulus
+    does. A stimulus meant to be isoluminant (DKL lum = 0) or cone-isolating (one cone class alone) warns when its
+    rod contrast exceeds the protocol's ``rods.max_rod_contrast`` (default 1 %, a default to adjust, not a
+    standard). Three primaries cannot also silence the rods, so nothing here claims rod silence.
+    """
+
+    def __init__(self, compiled, protocol, findings):
+        self.findings = findings
+        self.background = compiled.background
+        self.response = compiled.model.rods
+        self.limit = float(protocol.get("rods", {}).get("max_rod_contrast", DEFAULT_MAX_ROD_CONTRAST))
+        self.luminance = float(compiled.model.RGB_linear_to_luminance(self.background.RGB_0))
+        self.mesopic = self.luminance < MESOPIC_UPPER_CD_M2
+        if self.response is None:
+            severity = "warn" if self.mesopic else "info"
+            extra = (f"; the background ({self.luminance:.3g} cd/m²) is below the mesopic limit of "
+                     f"{MESOPIC_UPPER_CD_M2:g} cd/m², so rods may contribute: measure the spectra" if self.mesopic
+                     else "")
+            findings.add("rods", severity, "display profile", NOT_AVAILABLE + extra, rod_contrast=None)
+
+    def check(self, entry, where):
+        if self.response is None:
+            return
+        background = self.background
+        contrast = np.asarray(entry["cone_contrast"])
+        pooled = float(np.linalg.norm(contrast))
+        if pooled < 1e-9:
+            return
+        rod = float(self.response.contrast_of_change(entry["_delta_RGB"], background.RGB_0))
+        largest = max(abs(rod * e["modulation"]) for e in entry["extremes"])
+        obs = background.model.observer
+        lum = float(LMS_to_DKL(np.asarray(entry["lms"]), background.LMS_0, obs.w_L, obs.w_M)[0])
+        isoluminant = abs(lum) <= 1e-6 * pooled
+        isolating = int(np.sum(np.abs(contrast) > 1e-6 * pooled)) == 1
+        values = dict(rod_contrast=rod, largest_rod_contrast=largest, background_cd_m2=self.luminance,
+                      mesopic=self.mesopic, isoluminant=isoluminant, cone_isolating=isolating, limit=self.limit)
+        meant = "isoluminant" if isoluminant else "cone-isolating" if isolating else None
+        if self.mesopic and meant and largest > self.limit:
+            self.findings.add("rods", "warn", where,
+                              f"{meant} stimulus with rod contrast up to {largest:.4f} on a mesopic background "
+                              f"({self.luminance:.3g} cd/m² < {MESOPIC_UPPER_CD_M2:g}, CIE 191:2010): above the "
+                              f"protocol's limit of {self.limit:g}; rods may add to what it does. A three-primary "
+                              "display cannot silence rods: raise the background luminance, or set "
+                              "rods.max_rod_contrast knowingly", **values)
+        else:
+            self.findings.add("rods", "info", where,
+                              f"rod contrast {rod:+.4f} against the background (up to {largest:.4f} over its "
+                              "modulation); a three-primary display cannot silence rods", **values)
 
 
 def _response(findings, compiled, response, label):

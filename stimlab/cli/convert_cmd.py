@@ -69,6 +69,12 @@ def print_table(r: dict) -> None:
     print(_row("CIE 1931 xyY", r["xyY"], "{:.4f}"))
     print(_row("linear RGB", r["rgb_linear"], "{:.6f}"))
     print(f"  {'luminance':31s}{r['luminance_cd_m2']:11.3f} cd/m²")
+    if r["rod_contrast"] is None:
+        print(f"  {'rod contrast':31s}not available ({r['rods_note']})")
+    else:
+        print(f"  {'scotopic luminance':31s}{r['scotopic_luminance_cd_m2']:11.3f} scotopic cd/m² "
+              f"(background {r['background_scotopic_luminance_cd_m2']:.3f})")
+        print(f"  {'rod contrast':31s}{r['rod_contrast']:+11.5f}  (a three-primary display cannot silence rods)")
     if r["in_gamut"]:
         print(_row("device RGB", r["rgb_device"], "{:d}"))
         print(_row("one level, in cone contrast", r["quantisation_cone_contrast"], "{:.5f}"))

@@ -129,6 +129,13 @@ def run_show(args) -> int:
         print(f"    {axis:4s} {low:+.4f} … {high:+.4f}")
     q = summary["quantisation_cone_contrast"]
     print(f"  one digital level at the background = cone contrast L {q[0]:.5f}, M {q[1]:.5f}, S {q[2]:.5f}")
+    rods = summary["rods"]
+    if not rods["available"]:
+        print(f"  {rods['note']}")
+    else:
+        contrasts = ", ".join(f"{axis} {value:+.4f}" for axis, value in rods["dkl_unit"].items())
+        print(f"  rods (CIE 1951 V′): white {rods['white_scotopic_cd_m2']:.2f} scotopic cd/m²; rod "
+              f"contrast of each unit DKL stimulus from mid-grey: {contrasts}")
     for warning in summary["warnings"]:
         print(f"  WARNING: {warning}")
     return 0

@@ -15,7 +15,7 @@ from ..sessions.store import Store, default_data_dir
 from .output import print_json
 
 HEADINGS = {"display": "Display", "gamut": "Gamut", "headroom": "Headroom", "bit_depth": "Bit depth",
-            "timing": "Timing", "prediction": "Predicted after-image / induction",
+            "timing": "Timing", "prediction": "Predicted after-image / induction", "rods": "Rod intrusion",
             "photosensitivity": "Photosensitivity", "geometry": "Geometry"}
 
 

@@ -8,11 +8,14 @@ the primaries, and likewise for CIE 1931 XYZ. Luminance (cd/m²) is ``w_L·L + w
 
 from __future__ import annotations
 
+from functools import cached_property
+
 import numpy as np
 
 from ._colour import colour
 from .observers import K_M, Observer
 from .observers import observer as standard_observer
+from .rods import RodResponse, rod_response
 from .spaces import as_triplets
 from .transfer import transfer_from_dict
 
@@ -208,6 +211,11 @@ class DisplayModel:
         wavelengths, measured = self.spectra
         grid, step = integration_grid(wavelengths, table_wavelengths)
         return step * measured[np.isin(wavelengths, grid)].T @ smooth_on_grid(table_wavelengths, table_values, grid)
+
+    @cached_property
+    def rods(self) -> RodResponse | None:
+        """Rod excitation (scotopic cd/m²) of the primaries and black; ``None`` for a profile given as xyY."""
+        return rod_response(self)
 
     # Linear RGB <-> cone excitations and CIE XYZ ------------------------------------------------------------
     def RGB_linear_to_LMS(self, RGB) -> np.ndarray:

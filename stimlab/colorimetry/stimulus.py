@@ -19,6 +19,7 @@ from .device import (
 )
 from .display import CHANNELS, DisplayModel
 from .gamut import DKL_axis_limits, scale_limit
+from .rods import NOT_AVAILABLE
 from .spaces import (
     DKL_to_LMS,
     LMS_to_cone_contrast,
@@ -219,6 +220,25 @@ class Background:
         delta_RGB = self.model.LMS_to_RGB_linear(LMS) - self.RGB_0
         return scale_limit(self.RGB_0, delta_RGB)
 
+    def rods(self, RGB) -> dict:
+        """Rod contrast against this background and scotopic luminance of linear RGB ``RGB`` (shape (3,)).
+
+        Returns
+        -------
+        dict
+            ``rod_contrast`` (dimensionless), ``scotopic_luminance_cd_m2`` (scotopic cd/m²) and
+            ``background_scotopic_luminance_cd_m2``, each ``None`` with the reason in ``rods_note`` for a profile
+            given as xyY (rod excitation needs spectra and is never guessed).
+        """
+        rods = self.model.rods
+        if rods is None:
+            return {"rod_contrast": None, "scotopic_luminance_cd_m2": None,
+                    "background_scotopic_luminance_cd_m2": None, "rods_note": NOT_AVAILABLE}
+        return {"rod_contrast": float(rods.rod_contrast(RGB, self.RGB_0)),
+                "scotopic_luminance_cd_m2": float(rods.scotopic_luminance(RGB)),
+                "background_scotopic_luminance_cd_m2": float(rods.scotopic_luminance(self.RGB_0)),
+                "rods_note": None}
+
     def describe(self, LMS) -> dict:
         """One colour in every space, with its device levels, gamut verdict and quantisation grain.
 
@@ -254,6 +274,7 @@ class Background:
             "display_name": model.profile["name"],
             "display_hash": model.sha256,
             "approximate_primaries": model.is_approximate,
+            **self.rods(RGB),
         }
         if inside:
             levels = RGB_linear_to_device(np.clip(RGB, 0.0, 1.0), model.level_outputs)

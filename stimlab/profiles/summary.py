@@ -2,11 +2,14 @@
 
 from __future__ import annotations
 
+import numpy as np
+
 from ..colorimetry.display import CHANNELS, DisplayModel
-from ..colorimetry.stimulus import Background
+from ..colorimetry.rods import NOT_AVAILABLE
+from ..colorimetry.stimulus import DKL_AXES, Background
 from .profile import DEFAULT_MAX_AGE_DAYS, profile_age_days, profile_warnings
 
-__all__ = ["display_summary"]
+__all__ = ["display_summary", "rods_summary"]
 
 MID_GREY = (0.5, 0.5, 0.5)
 """Linear RGB of the background the headroom and one-level figures are given for."""
@@ -55,4 +58,26 @@ def display_summary(profile: dict, observer=None, max_age_days: int = DEFAULT_MA
                          "alternatives": {k: v["rms"] for k, v in profile["transfer"][c]["alternatives"].items()}}
                      for c in CHANNELS},
         "notes": profile.get("notes", []),
+        "rods": rods_summary(model, background),
+    }
+
+
+def rods_summary(model: DisplayModel, background: Background) -> dict:
+    """Rod intrusion at mid-grey: rod contrast of each DKL axis's unit stimulus and of a step of each primary.
+
+    ``available`` is false for a profile given as xyY (rod excitation needs spectra; nothing is guessed).
+    """
+    rods = model.rods
+    if rods is None:
+        return {"available": False, "note": NOT_AVAILABLE}
+    delta_axes = model.M_LMS_inverse @ background.D  # columns: ΔRGB of each unit DKL stimulus
+    return {
+        "available": True,
+        "background_scotopic_cd_m2": float(rods.scotopic_luminance(background.RGB_0)),
+        "white_scotopic_cd_m2": float(rods.scotopic_luminance(np.ones(3))),
+        "white_s_over_p": float(rods.scotopic_luminance(np.ones(3))) / model.white_luminance,
+        "dkl_unit": {axis: float(rods.contrast_of_change(delta_axes[:, i], background.RGB_0))
+                     for i, axis in enumerate(DKL_AXES)},
+        "primary_step": {c: float(rods.contrast_of_change(0.1 * np.eye(3)[i], background.RGB_0))
+                         for i, c in enumerate(CHANNELS)},
     }
