@@ -148,8 +148,8 @@ def analyse_condition(compiled, condition: int, protocol: dict, overrides: dict 
                 if region is None:
                     continue
                 delta = (overrides or {}).get(name) if region == "colour" else None
-                delta = stimuli[name][region]["_delta_RGB"] if delta is None else delta
-                m = modulation(stimuli[name]["time_course"], frames, refresh)
+                delta = getattr(stimuli[name], region).delta_RGB if delta is None else delta
+                m = modulation(stimuli[name].time_course, frames, refresh)
                 RGB = RGB_0 + np.outer(m * factor, delta)
                 break
             pieces[p].append(RGB)

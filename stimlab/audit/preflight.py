@@ -53,14 +53,13 @@ def audit_protocol(compiled, protocol: dict, profile: dict, *, max_age_days: int
         index = condition["index"]
         label = condition["label"]
         for name, stimulus in compiled.stimuli[index].items():
-            for key in ("colour", "second_colour"):
-                if key in stimulus:
-                    _colour(findings, compiled, stimulus, key, f"{label} / {name}" + ("" if key == "colour" else
-                                                                                     " (second colour)"))
+            for key, entry in stimulus.colours().items():
+                _colour(findings, compiled, entry, f"{label} / {name}" + ("" if key == "colour" else
+                                                                          " (second colour)"))
         response = compiled.responses[index]
         if response is not None:
             _response(findings, compiled, response, label)
-        if "adaptation_model" in protocol and response is not None and response["kind"] == "adjustment":
+        if "adaptation_model" in protocol and response is not None and response.kind == "adjustment":
             _prediction(findings, compiled, protocol["adaptation_model"], index, response, label)
     _distinct_conditions(findings, compiled)
     _timing(findings, compiled, protocol)
@@ -85,11 +84,10 @@ def _display(findings, protocol, profile, max_age_days, today):
         findings.add("display", "warn", "display profile", warning)
 
 
-def _colour(findings, compiled, stimulus, key, where):
-    entry = stimulus[key]
+def _colour(findings, compiled, entry, where):
     background = compiled.background
-    delta = entry["_delta_RGB"]
-    for extreme in entry["extremes"]:
+    delta = entry.delta_RGB
+    for extreme in entry.extremes:
         if not extreme["in_gamut"]:
             over = _overshoot(extreme["rgb_linear"])
             fits, channel = scale_limit(background.RGB_0, extreme["modulation"] * delta)
@@ -99,7 +97,7 @@ def _colour(findings, compiled, stimulus, key, where):
                          + f" beyond 0..1 (linear); only ×{float(fits):.3f} of this contrast fits",
                          modulation=extreme["modulation"], overshoot=over, max_scale=float(fits),
                          limiting_channel=CHANNELS[int(channel)] if channel >= 0 else None)
-    contrast = np.asarray(entry["cone_contrast"])
+    contrast = np.asarray(entry.cone_contrast)
     pooled = float(np.linalg.norm(contrast))
     if pooled < 1e-9:  # the background itself: no direction to scale
         return
@@ -109,10 +107,10 @@ def _colour(findings, compiled, stimulus, key, where):
                  f"this direction can be scaled ×{float(up):.3f} (and ×{float(down):.3f} the other way) before it "
                  f"leaves the gamut: up to {pooled * float(up):.4f} pooled cone contrast",
                  scale_up=float(up), scale_down=float(down), pooled_cone_contrast=pooled)
-    if entry["device"] is not None:
+    if entry.device is not None:
         # Against the background as shown (it is quantised too), which is what the observer adapts to.
         outputs = compiled.model.level_outputs
-        shown = compiled.model.RGB_linear_to_LMS(device_to_RGB_linear(np.array(entry["device"]), outputs))
+        shown = compiled.model.RGB_linear_to_LMS(device_to_RGB_linear(np.array(entry.device), outputs))
         shown_background = compiled.model.RGB_linear_to_LMS(
             device_to_RGB_linear(np.array(compiled.data["background"]["device"]), outputs))
         realised = shown / shown_background - 1
@@ -124,16 +122,16 @@ def _colour(findings, compiled, stimulus, key, where):
 
 
 def _response(findings, compiled, response, label):
-    where = f"{label} / {response['kind']} of {response['target']}"
-    positions = response["_positions"]
-    inside = np.array(response["in_gamut"])
-    axes = response["_axes"]
+    where = f"{label} / {response.kind} of {response.target}"
+    positions = response.positions
+    inside = np.array(response.in_gamut)
+    axes = response.axes
     low, high = positions[0], positions[-1]
     origin_RGB = compiled.model.LMS_to_RGB_linear(
-        compiled.background.colour_to_LMS(response["space"], response["_base"]))
+        compiled.background.colour_to_LMS(response.space, response.base))
     for d, axis in enumerate(axes):
         step_RGB = compiled.model.LMS_to_RGB_linear(
-            compiled.background.colour_to_LMS(response["space"], response["_base"] + axis)) - origin_RGB
+            compiled.background.colour_to_LMS(response.space, response.base + axis)) - origin_RGB
         top, top_channel = scale_limit(origin_RGB, step_RGB)
         bottom, bottom_channel = scale_limit(origin_RGB, -step_RGB)
         axis_name = f" along axis {d + 1}" if len(axes) > 1 else ""
@@ -147,8 +145,8 @@ def _response(findings, compiled, response, label):
     if not inside.all():
         findings.add("gamut", "fail", where, f"{int((~inside).sum())} of {inside.size} positions are out of gamut "
                      "and cannot be shown", out_of_gamut=int((~inside).sum()), positions=int(inside.size))
-    device = np.array([d if d is not None else [-1, -1, -1] for d in response["device"]])
-    count = response["positions"]["count"]
+    device = np.array([d if d is not None else [-1, -1, -1] for d in response.device])
+    count = response.positions.size
     grid = device.reshape((count,) * len(axes) + (3,))
     repeated = 0
     steps = 0
@@ -178,21 +176,21 @@ def _prediction(findings, compiled, model, index, response, label):
     k = float(model.get("exponent", 1.0))
     background = compiled.background
     if model["kind"] == "after_image":
-        adapter = np.asarray(stimuli[model["adapter"]]["colour"]["cone_contrast"])
+        adapter = np.asarray(stimuli[model["adapter"]].colour.cone_contrast)
         predicted = null_cone_contrast(adapter, k)
         what = "null of the after-image"
     else:
         inducer = stimuli[model["inducer"]]
-        surround = inducer.get("second_colour", inducer["colour"])["cone_contrast"]
-        test = stimuli[model["test"]]["colour"]["cone_contrast"]
+        surround = (inducer.second_colour or inducer.colour).cone_contrast
+        test = stimuli[model["test"]].colour.cone_contrast
         predicted = induced_match_cone_contrast(test, surround, k)
         what = "match to the induced colour"
     LMS = background.LMS_0 * (1 + predicted)
-    target = background.LMS_to_space(response["space"], LMS)
-    axes = response["_axes"]
-    position, *_ = np.linalg.lstsq(axes.T, target - response["_base"], rcond=None)
-    off_line = float(np.linalg.norm(response["_base"] + position @ axes - target))
-    low, high = response["_positions"][0], response["_positions"][-1]
+    target = background.LMS_to_space(response.space, LMS)
+    axes = response.axes
+    position, *_ = np.linalg.lstsq(axes.T, target - response.base, rcond=None)
+    off_line = float(np.linalg.norm(response.base + position @ axes - target))
+    low, high = response.positions[0], response.positions[-1]
     margin = float(np.min(np.r_[position - low, high - position]))
     fits, _ = scale_limit(background.RGB_0, background.model.LMS_to_RGB_linear(LMS) - background.RGB_0)
     where = f"{label} / predicted {what}"
@@ -255,15 +253,15 @@ def _photosensitivity(findings, compiled, protocol) -> bool:
     for condition in compiled.data["conditions"]:
         cases = [(analyse_condition(compiled, condition["index"], protocol), "")]
         response = compiled.responses[condition["index"]]
-        if response is not None and response["kind"] == "adjustment":
-            course = compiled.stimuli[condition["index"]][response["target"]]["time_course"]
+        if response is not None and response.kind == "adjustment":
+            course = compiled.stimuli[condition["index"]][response.target].time_course
             if course["kind"] != "steady":  # a flickering adjusted target: check the reach of the adjustment too
-                ends = [0, len(response["_RGB"]) - 1]
+                ends = [0, len(response.RGB) - 1]
                 for end in ends:
-                    delta = response["_RGB"][end] - compiled.background.RGB_0
-                    label = f" (adjusted to position {', '.join(f'{p:+g}' for p in response['_grid'][end])})"
+                    delta = response.RGB[end] - compiled.background.RGB_0
+                    label = f" (adjusted to position {', '.join(f'{p:+g}' for p in response.grid[end])})"
                     cases.append((analyse_condition(compiled, condition["index"], protocol,
-                                                    {response["target"]: delta}), label))
+                                                    {response.target: delta}), label))
         for result, label in cases:
             _flash_findings(findings, result, condition, label)
     return flicker
