@@ -13,9 +13,12 @@ from ..colorimetry.adaptation import induced_match_cone_contrast, null_cone_cont
 from ..colorimetry.device import device_to_RGB_linear
 from ..colorimetry.display import CHANNELS
 from ..colorimetry.gamut import scale_limit
+from ..colorimetry.geometry import WCAG_FLASH_AREA_SR
 from ..experiment.protocol import CAUTION
+from ..experiment.timecourse import shown_frequency_hz, square_period_frames
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, profile_warnings
-from .photosensitivity import analyse_condition
+from .flashes import MAX_FLASHES_PER_SECOND
+from .photosensitivity import analyse_sequence
 
 __all__ = ["audit_protocol", "KINDS", "SEVERITIES"]
 
@@ -227,10 +230,9 @@ def _timing(findings, compiled, protocol):
             if "frames" not in phase or phase["requested_s"] == 0:
                 continue
             where = f"{'first trial' if which == 'first' else 'later trials'} / {phase['phase']}"
-            if phase["frames"] / refresh < phase["requested_s"] and phase["frames"] == 1 and \
-                    phase["requested_s"] < 0.5 / refresh:
-                findings.add("timing", "warn", where, f"{phase['requested_s']} s is shorter than one frame; shown "
-                             f"for one frame ({1 / refresh:.4f} s)", **phase)
+            if phase["requested_s"] < 1 / refresh:
+                findings.add("timing", "warn", where, f"{phase['requested_s']} s is shorter than one frame at "
+                             f"{refresh:g} Hz; it is shown for one frame ({1000 / refresh:.1f} ms)", **phase)
             elif abs(phase["actual_s"] - phase["requested_s"]) > 1e-9:
                 findings.add("timing", "info", where, f"requested {phase['requested_s']} s is not a whole number "
                              f"of frames at {refresh:g} Hz: shown for {phase['frames']} frames = "
@@ -238,53 +240,59 @@ def _timing(findings, compiled, protocol):
     for stimulus in protocol["stimuli"]:
         course = stimulus.get("time_course", {})
         if course.get("kind") == "square":
-            half = max(1, round(refresh / (2 * course["frequency_hz"])))
-            actual = refresh / (2 * half)
+            period = square_period_frames(course["frequency_hz"], refresh)
+            actual = shown_frequency_hz(course, refresh)
             if abs(actual - course["frequency_hz"]) > 0.01 * course["frequency_hz"]:
                 findings.add("timing", "warn", stimulus["name"], f"square flicker at {course['frequency_hz']:g} Hz "
-                             f"runs at {actual:.3f} Hz ({half} frames per half cycle at {refresh:g} Hz)",
-                             requested_hz=course["frequency_hz"], actual_hz=actual)
+                             f"runs at {actual:.3f} Hz ({period} frames per cycle, {(period + 1) // 2} on and "
+                             f"{period // 2} off, at {refresh:g} Hz)",
+                             requested_hz=course["frequency_hz"], actual_hz=actual, period_frames=period)
 
 
 def _photosensitivity(findings, compiled, protocol) -> bool:
     flicker = any(s.get("time_course", {}).get("kind", "steady") != "steady" for s in protocol["stimuli"])
     if flicker:
         findings.add("photosensitivity", "warn", "protocol", "this protocol flickers. " + CAUTION)
-    for condition in compiled.data["conditions"]:
-        cases = [(analyse_condition(compiled, condition["index"], protocol), "")]
-        response = compiled.responses[condition["index"]]
-        if response is not None and response.kind == "adjustment":
-            course = compiled.stimuli[condition["index"]][response.target].time_course
-            if course["kind"] != "steady":  # a flickering adjusted target: check the reach of the adjustment too
-                ends = [0, len(response.RGB) - 1]
-                for end in ends:
-                    delta = response.RGB[end] - compiled.background.RGB_0
-                    label = f" (adjusted to position {', '.join(f'{p:+g}' for p in response.grid[end])})"
-                    cases.append((analyse_condition(compiled, condition["index"], protocol,
-                                                    {response.target: delta}), label))
-        for result, label in cases:
-            _flash_findings(findings, result, condition, label)
+    cases = [(analyse_sequence(compiled), "")]
+    ends = set()
+    for condition in compiled.conditions:
+        response = condition.response
+        if response is not None and response.kind == "adjustment" and \
+                condition.stimuli[response.target].time_course["kind"] != "steady":
+            ends.update({0, len(response.RGB) - 1})  # a flickering adjusted target: the reach of the adjustment too
+    for end in sorted(ends):
+        cases.append((analyse_sequence(compiled, ladder=end), f" (adjusted to ladder entry {end})"))
+    seen = set()
+    for result, label in cases:
+        _flash_findings(findings, result, label, seen)
     return flicker
 
 
-def _flash_findings(findings, result, condition, label):
+def _flash_findings(findings, result, label, seen):
     for key, name in (("general", "general"), ("red_wcag22", "red (WCAG 2.2 / ISO 9241-391)"),
                       ("red_harding", "red (Harding & Binnie)")):
         r = result[key]
-        if r["max_flashes_per_second"] <= 3:
+        if r["max_flashes_per_second"] <= MAX_FLASHES_PER_SECOND:
             continue
-        where = f"{condition['label']} / {r['stimulus']}{label}"
+        what = ("the change between phases " + " → ".join(r["phases"]) + f" ({r['stimulus']})") if r["transition"] \
+            else r["stimulus"]
+        where = f"trial {r['trial'] + 1} / {r['phase']} / {what}{label}"
+        signature = (key, r["max_flashes_per_second"], round(r["flashing_area_sr"], 5), r["stimulus"], r["fails"])
+        if signature in seen:
+            continue
+        seen.add(signature)
+        when = f"from {r['at_s']:.2f} s into the {r['phase']} phase of trial {r['trial'] + 1}"
         if r["fails"]:
             findings.add("photosensitivity", "fail", where,
-                         f"{r['max_flashes_per_second']} {name} flashes in one second (at {r['at_s']:.2f} s) over "
-                         f"{r['flashing_area_sr']:.4f} sr: above WCAG 2.2's 3 flashes and 0.006 sr. Running it "
-                         "needs a recorded acknowledgement and ethics approval reference. " + CAUTION,
-                         definition=key, **r)
+                         f"{r['max_flashes_per_second']} {name} flashes in one second ({when}) over "
+                         f"{r['flashing_area_sr']:.4f} sr within a 10° field: above WCAG 2.2's 3 flashes and "
+                         f"{WCAG_FLASH_AREA_SR} sr. Running it needs a recorded acknowledgement and ethics approval "
+                         "reference. " + CAUTION, definition=key, **r)
         else:
             findings.add("photosensitivity", "warn", where,
-                         f"{r['max_flashes_per_second']} {name} flashes per second, but over only "
-                         f"{r['flashing_area_sr']:.4f} sr (≤ 0.006 sr): passes WCAG 2.2 on area", definition=key,
-                         **r)
+                         f"{r['max_flashes_per_second']} {name} flashes per second ({when}), but over only "
+                         f"{r['flashing_area_sr']:.4f} sr within a 10° field (≤ {WCAG_FLASH_AREA_SR} sr): passes "
+                         "WCAG 2.2 on area", definition=key, **r)
 
 
 def _geometry(findings, compiled):

@@ -21,8 +21,10 @@ from ..colorimetry.stimulus import Background
 from ..errors import InputError
 from .compiled import CompiledColour, CompiledCondition, CompiledStimulus
 from .design import conditions_from_variables, trial_order
+from .plan import build_plan, plan_sha256
 from .protocol import json_path, protocol_sha256
 from .responses import compile_response
+from .timecourse import phase_frames, shown_frequency_hz
 
 __all__ = ["compile_protocol", "Compiled", "MODULATION_STEPS", "REFERENCE_GREY"]
 
@@ -137,17 +139,13 @@ def _geometry(stimulus: dict, distance_cm: float, px_per_cm: float) -> dict:
     return geometry
 
 
-def _frames(seconds: float, refresh_hz: float) -> int:
-    return max(1, int(round(seconds * refresh_hz))) if seconds > 0 else 0
-
-
 def _time_course(stimulus: dict, refresh_hz: float) -> dict:
     course = dict(stimulus.get("time_course", {"kind": "steady"}))
     for key in ("ramp_on_ms", "ramp_off_ms"):
         if course.get(key):
-            course[key.replace("_ms", "_frames")] = _frames(course[key] / 1000, refresh_hz)
-    if "frequency_hz" in course:
-        course["frames_per_cycle"] = refresh_hz / course["frequency_hz"]
+            course[key.replace("_ms", "_frames")] = phase_frames(course[key] / 1000, refresh_hz)
+    if course["kind"] != "steady":
+        course["shown_frequency_hz"] = shown_frequency_hz(course, refresh_hz)
     return course
 
 
@@ -161,12 +159,12 @@ def _schedules(protocol: dict, refresh_hz: float) -> dict:
                 name, seconds = "top_up", phase["top_up_s"]
             entry = {"phase": name, "stimuli": phase.get("stimuli", []), "fixation": phase.get("fixation", True)}
             if phase["phase"] == "respond":
-                entry["timeout_frames"] = _frames(phase["timeout_s"], refresh_hz) if "timeout_s" in phase else None
+                entry["timeout_frames"] = phase_frames(phase["timeout_s"], refresh_hz) if "timeout_s" in phase else None
                 entry["response"] = phase["response"]["method"]
                 if "keys" in phase["response"]:
                     entry["keys"] = phase["response"]["keys"]
             else:
-                frames = _frames(seconds, refresh_hz)
+                frames = phase_frames(seconds, refresh_hz)
                 entry.update(frames=frames, requested_s=seconds, actual_s=frames / refresh_hz)
             schedules[which].append(entry)
     return schedules
@@ -251,6 +249,8 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
                                                      labels=condition["labels"], stimuli=stimuli,
                                                      response=compiled_response))
 
+    schedules = _schedules(protocol, refresh)
+    plan = build_plan(compiled_conditions[0].stimuli, schedules, refresh)
     trials = _trials(design, conditions, response, [c.response for c in compiled_conditions], rng, participant)
     data = {
         "stimlab_compiled": 1,
@@ -265,12 +265,14 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
         "background": {"rgb_linear": background.RGB_0.tolist(), "lms": background.LMS_0.tolist(),
                        "device": background.to_device("rgb_linear", background.RGB_0).tolist()},
         "fixation": _fixation(protocol, background, distance, px_per_cm),
-        "schedules": _schedules(protocol, refresh),
+        "schedules": schedules,
         "adaptation_model": protocol.get("adaptation_model"),
         "photometry": protocol.get("photometry"),
         "conditions": [c.to_json() for c in compiled_conditions],
         "trials": trials,
+        "plan": plan,
     }
+    data["plan_sha256"] = plan_sha256(data)
     return Compiled(data, model, background, compiled_conditions)
 
 
