@@ -142,3 +142,17 @@ def test_timing_reports_frame_rounding(demo, protocol_named):
     protocol["trial"][1]["duration_s"] = 0.26
     notes = found(audit(protocol, demo), "timing", "info")
     assert any("16 frames = 0.2667 s" in n["message"] for n in notes)
+
+
+def test_a_phase_shorter_than_a_frame_warns(demo, protocol_named):
+    protocol = protocol_named("afterimage_null")
+    protocol["trial"][1]["duration_s"] = 0.003  # 60 Hz: 16.7 ms per frame
+    warnings = found(audit(protocol, demo), "timing", "warn")
+    assert any("shorter than one frame" in w["message"] and "16.7 ms" in w["message"] for w in warnings)
+
+
+def test_square_flicker_is_reported_at_the_rate_shown(demo, protocol_named):
+    protocol = protocol_named("flicker_photometry")
+    protocol["stimuli"][0]["time_course"]["frequency_hz"] = 13  # 60/13 = 4.6 → 5 frames: 12 Hz shown
+    warnings = found(audit(protocol, demo), "timing", "warn")
+    assert any("runs at 12.000 Hz" in w["message"] for w in warnings)

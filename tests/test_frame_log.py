@@ -18,7 +18,7 @@ TIMES = [16.665, 33.33, 0.1 + 0.2, 1234.5650000000001]
 def lists(**changes):
     block = {"frame": [10, 11, 12, 13], "t_raf": TIMES, "t_callback": [t + 0.05 for t in TIMES],
              "trial": [0, 0, None, 1], "phase": ["adapt", "adapt", "pause", "test"], "dropped": [0, 1, 0, 0],
-             "drawn": ["512,498,530", "512,498,530", None, "patch"]}
+             "drawn": ["512,498,530", "512,498,530", None, "patch"], "in_phase": [0, 1, None, 0]}
     block.update(changes)
     return block
 
@@ -37,8 +37,19 @@ def test_a_packed_block_written_by_hand_reads_as_the_runner_means_it():
     block = {"count": 2, "labels": ["adapt", "512,498,530"], "frame": column("I", [7, 8]),
              "t_raf": column("d", [1.5, 18.25]), "t_callback": column("d", [1.55, 18.3]), "trial": column("i", [3, -1]),
              "phase": column("H", [0, 0]), "dropped": column("B", [0, 1]), "drawn": column("H", [1, NO_LABEL])}
-    assert read_block(block).rows() == [(7, 1.5, 1.55, 3, "adapt", 0, "512,498,530"),
-                                        (8, 18.25, 18.3, None, "adapt", 1, None)]
+    assert read_block(block).rows() == [(7, 1.5, 1.55, 3, "adapt", 0, "512,498,530", None),
+                                        (8, 18.25, 18.3, None, "adapt", 1, None, None)]  # no in_phase: older runner
+    block["in_phase"] = column("i", [42, -1])
+    assert [r[7] for r in read_block(block).rows()] == [42, None]
+
+
+def test_blocks_stored_before_the_frame_index_within_the_phase_still_read():
+    block = read_block(lists())
+    stored = block.stored()
+    labels = struct.unpack_from("<4sII", stored)[2]
+    body = stored[12 + labels:]
+    old = b"SLF1" + stored[4:12 + labels] + body[:len(body) - 4 * len(block)]  # seven columns, no in_phase
+    assert FrameBlock.from_stored(old).rows() == [row[:7] + (None,) for row in block.rows()]
 
 
 def test_packed_and_stored_forms_round_trip():
@@ -51,7 +62,8 @@ def test_packed_and_stored_forms_round_trip():
 def test_csv_lines_parse_back_to_the_same_values():
     text = read_block(lists()).csv()
     rows = list(csv.reader(io.StringIO(text)))
-    assert rows[2] == ["12", repr(0.1 + 0.2), repr(0.1 + 0.2 + 0.05), "", "pause", "0", ""]
+    assert rows[2] == ["12", repr(0.1 + 0.2), repr(0.1 + 0.2 + 0.05), "", "pause", "0", "", ""]
+    assert [r[7] for r in rows] == ["0", "1", "", "0"]
     assert [float(r[1]) for r in rows] == TIMES
     assert [r[6] for r in rows] == ["512,498,530", "512,498,530", "", "patch"]  # quoted: it holds commas
     assert text.count("\n") == 4
@@ -75,6 +87,8 @@ def test_concatenated_blocks_share_one_label_table():
     ({"t_raf": [0.0, "1", 2.0, 3.0]}, "frames.t_raf[1]"),
     ({"trial": [0, -2, 0, 0]}, "frames.trial"),
     ({"dropped": [0, 2, 0, 0]}, "frames.dropped"),
+    ({"in_phase": [0, -2, 0, 0]}, "frames.in_phase"),
+    ({"in_phase": [0, 1.5, 0, 0]}, "frames.in_phase[1]"),
     ({"phase": ["adapt", 3, "adapt", "adapt"]}, "frames.phase[1]"),
     ({"phase": ["adapt", ["x"], "adapt", "adapt"]}, "frames.phase[1]"),
     ({"drawn": ['say "hi"', None, None, None]}, "frames.drawn[0]"),

@@ -1,27 +1,28 @@
-"""Photosensitivity audit of a compiled condition: general and red flashes at each place on the screen, frame by
-frame over a first trial and a repeat trial, against WCAG 2.2 success criterion 2.3.1.
+"""Photosensitivity audit on rendered frames: general and red flashes per pixel over the whole frame sequence of a
+compiled protocol, against WCAG 2.2 success criterion 2.3.1 ("Three Flashes or Below Threshold") and its
+definitions of the general flash and red flash thresholds.
 
-A sample point is taken in each region of each stimulus (a disc's centre, an annulus's ring, a surround, each half
-of a bipartite field). For every frame the point shows the top-most stimulus covering it in that phase (later
-names in a phase's list are drawn on top), modulated by its time course. The solid angle of each region comes
-from the real viewing distance rather than the standard's 341 × 256 pixel estimate. Overlapping regions count
-once each, which can only over-state the flashing area: the audit errs on the safe side.
+The sequence is every trial in compiled order and every phase of its schedule (:mod:`stimlab.audit.sequence`), so
+flashes made by phase changes within a trial and between consecutive trials count as well as designed flicker.
+For each class of sample pixels the relative luminance (luminance over the display's white, from the display
+model) and, for red flashes, the linear RGB and CIE 1976 u′v′ of every run of frames are formed, and the
+counting functions of :mod:`stimlab.audit.flashes` find the transitions and the flashes in every one-second window
+``[t, t + 1 s)``. For each window the pixels flashing more than three times form the flashing area; its largest
+solid angle within any 10° field is found over fields centred on the flashing pixels, with each sample pixel's solid
+angle from the viewing distance and the display's size (no flat-screen estimate). Content fails when some window
+has more than three flashes and more than 0.006 sr flashes together within a 10° field.
+
+Gratings finer than :data:`FINE_PATTERN_CYCLES_PER_DEG` are a fine balanced pattern under WCAG 2.2's note and are
+left out of the general-flash count (not of the red).
 """
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 
 from ..colorimetry._colour import colour
-from ..colorimetry.geometry import (
-    TEN_DEGREE_FIELD_SR,
-    WCAG_FLASH_AREA_SR,
-    disc_solid_angle,
-    rectangle_solid_angle,
-    screen_solid_angle,
-)
+from ..colorimetry.device import device_to_RGB_linear
+from ..colorimetry.geometry import TEN_DEGREE_FIELD_SR, WCAG_FLASH_AREA_SR
 from .flashes import (
     MAX_FLASHES_PER_SECOND,
     RED_DEFINITIONS,
@@ -29,159 +30,186 @@ from .flashes import (
     general_flash_transitions,
     red_flash_transitions,
 )
+from .sequence import RESPOND_FRAMES_S, build_sequence, region_signal
 
-__all__ = ["analyse_condition", "modulation", "FINE_PATTERN_CYCLES_PER_DEG", "RESPOND_FRAMES_S"]
+__all__ = ["analyse_sequence", "FINE_PATTERN_CYCLES_PER_DEG", "RESPOND_FRAMES_S", "MAX_FIELD_CENTRES"]
 
 FINE_PATTERN_CYCLES_PER_DEG = 5.0
-"""Bars narrower than 0.1° (WCAG's fine balanced pattern exception): gratings finer than this do not flash."""
+"""Bars narrower than 0.1° (WCAG 2.2's fine balanced pattern note): gratings finer than this do not flash."""
 
-RESPOND_FRAMES_S = 2.0
-"""A respond phase has no fixed length; it is analysed for this long (or its time-out, if shorter)."""
+MAX_FIELD_CENTRES = 600
+"""Most candidate centres tried for the 10° field (flashing samples, evenly thinned beyond this)."""
 
-
-def modulation(course: dict, frames: int, refresh_hz: float) -> np.ndarray:
-    """The time course's modulation for each frame of a phase (1 = the stimulus colour, 0 = background)."""
-    f = np.arange(frames)
-    kind = course.get("kind", "steady")
-    if kind == "steady":
-        m = np.ones(frames)
-    elif kind == "square":
-        half = max(1, int(round(refresh_hz / (2 * course["frequency_hz"]))))
-        m = np.where((f // half) % 2 == 0, 1.0, -1.0)
-    else:  # sine, counterphase
-        m = np.sin(2 * np.pi * course["frequency_hz"] * f / refresh_hz)
-    if kind != "steady" and course.get("mode") == "on_off":
-        m = (1 + m) / 2
-    for key, ramp in (("ramp_on_frames", (f + 1)), ("ramp_off_frames", (frames - f))):
-        if course.get(key):
-            m = m * np.minimum(1.0, ramp / course[key])
-    return m
+FIELD_HALF_ANGLE = np.radians(5.0)
 
 
-def _regions(stimulus: dict) -> list[tuple[str, tuple[float, float], float]]:
-    """(region key, sample point in degrees, solid angle in sr) for each region of a stimulus."""
-    x, y = stimulus.get("position_deg", (0.0, 0.0))
-    shape, size = stimulus["shape"], stimulus.get("size_deg", 0.0)
-    if shape == "disc":
-        return [("colour", (x, y), disc_solid_angle(size))]
-    if shape == "square":
-        return [("colour", (x, y), rectangle_solid_angle(size, size))]
-    if shape == "annulus":
-        inner = stimulus["inner_size_deg"]
-        return [("colour", (x + (size + inner) / 4, y), disc_solid_angle(size) - disc_solid_angle(inner))]
-    if shape == "centre_surround":
-        outer = stimulus["surround_size_deg"]
-        return [("colour", (x, y), disc_solid_angle(size)),
-                ("second_colour", (x + (size + outer) / 4, y), disc_solid_angle(outer) - disc_solid_angle(size))]
-    if shape == "bipartite":
-        half = disc_solid_angle(size) / 2
-        return [("colour", (x - size / 4, y), half), ("second_colour", (x + size / 4, y), half)]
-    if shape in ("gaussian", "grating"):
-        return [("colour", (x, y), disc_solid_angle(4 * stimulus["sigma_deg"]))]
-    return [("colour", (x, y), math.inf)]  # uniform field: the whole screen (set by the caller)
+def _class_runs(compiled, sequence):
+    """Per class: (device levels per run (n, 3), first frame of each run in the sequence)."""
+    data = compiled.data
+    phase_signals: dict = {}
+    levels_by_class = [[] for _ in sequence.representative]
+    starts_by_class = [[] for _ in sequence.representative]
+    for occurrence in sequence.occurrences:
+        regions = occurrence.regions
+        key = (occurrence.condition, occurrence.phase_index, occurrence.frames, id(regions),
+               tuple(item.ladder for item in occurrence.items))
+        if key not in phase_signals:
+            # Same condition, phase, length and regions: the same signals (trials repeat conditions).
+            labels = regions.labels.ravel()[sequence.representative]
+            unique, inverse = np.unique(labels, return_inverse=True)
+            signals = [region_signal(data, occurrence, regions.keys[label]) for label in unique.tolist()]
+            phase_signals[key] = [signals[i] for i in inverse.ravel().tolist()]
+        for c, (levels, starts) in enumerate(phase_signals[key]):
+            levels_by_class[c].append(levels)
+            starts_by_class[c].append(starts + occurrence.start)
+    return [(np.concatenate(a), np.concatenate(b)) for a, b in zip(levels_by_class, starts_by_class)]
 
 
-def _covers(stimulus: dict, point) -> tuple[str | None, float]:
-    """Which region of ``stimulus`` covers ``point`` (degrees) and the spatial factor there."""
-    x0, y0 = stimulus.get("position_deg", (0.0, 0.0))
-    dx, dy = point[0] - x0, point[1] - y0
-    r = math.hypot(dx, dy)
-    shape, size = stimulus["shape"], stimulus.get("size_deg", 0.0)
-    eps = 1e-9
-    if shape == "uniform_field":
-        return "colour", 1.0
-    if shape == "disc":
-        return ("colour", 1.0) if r <= size / 2 + eps else (None, 0.0)
-    if shape == "square":
-        return ("colour", 1.0) if max(abs(dx), abs(dy)) <= size / 2 + eps else (None, 0.0)
-    if shape == "annulus":
-        return ("colour", 1.0) if stimulus["inner_size_deg"] / 2 - eps <= r <= size / 2 + eps else (None, 0.0)
-    if shape == "centre_surround":
-        if r <= size / 2 + eps:
-            return "colour", 1.0
-        return ("second_colour", 1.0) if r <= stimulus["surround_size_deg"] / 2 + eps else (None, 0.0)
-    if shape == "bipartite":
-        if r > size / 2 + eps:
-            return None, 0.0
-        return ("colour", 1.0) if dx < 0 else ("second_colour", 1.0)
-    sigma = stimulus["sigma_deg"]
-    if r > 2 * sigma + eps:
-        return None, 0.0
-    factor = math.exp(-r * r / (2 * sigma * sigma))
-    if shape == "grating":
-        theta = math.radians(stimulus.get("orientation_deg", 0.0))
-        factor *= math.cos(2 * math.pi * stimulus["cycles_per_deg"] * (dx * math.cos(theta) + dy * math.sin(theta)))
-    return "colour", factor
+def _fine_classes(sequence, data) -> set:
+    """Classes that show a grating finer than WCAG 2.2's fine balanced pattern in some phase."""
+    fine = set()
+    for regions, items in {id(o.regions): (o.regions, o.items) for o in sequence.occurrences}.values():
+        labels = regions.labels.ravel()[sequence.representative]
+        for c, label in enumerate(labels.tolist()):
+            key = regions.keys[label]
+            if isinstance(key[0], int):
+                geometry = items[key[0]].geometry
+                if geometry["shape"] == "grating" and \
+                        geometry["cycles_per_px"] * data["pixels_per_degree"] > FINE_PATTERN_CYCLES_PER_DEG:
+                    fine.add(c)
+    return fine
 
 
-def analyse_condition(compiled, condition: int, protocol: dict, overrides: dict | None = None) -> dict:
-    """Flash counts and flashing area for one condition over a first trial followed by a repeat trial.
+def _largest_in_field(sequence, mask) -> float:
+    """Largest solid angle (sr) of flashing samples (``mask``) inside any 10° field centred on one of them."""
+    weights = sequence.solid_angle[mask]
+    if weights.sum() <= 0:
+        return 0.0
+    vectors = sequence.direction[mask]
+    centres = vectors[:: max(1, len(vectors) // MAX_FIELD_CENTRES)]
+    inside = centres @ vectors.T >= np.cos(FIELD_HALF_ANGLE)
+    return float(min((inside @ weights).max(), TEN_DEGREE_FIELD_SR))
 
-    ``overrides`` maps a stimulus name to the linear-RGB change to use instead of its own (an adjustment's limits).
+
+def analyse_sequence(compiled, *, ladder=None, stride: int | None = None) -> dict:
+    """General and red flash results for the whole frame sequence of a compiled protocol.
+
+    Parameters
+    ----------
+    compiled
+        A :class:`~stimlab.experiment.compile.Compiled` protocol.
+    ladder
+        An adjustment position to show in respond phases instead of each trial's start (the reach of the adjustment).
+    stride
+        Sample every ``stride``-th pixel (default: about every 0.2°).
+
+    Returns
+    -------
+    dict
+        ``{"general", "red_wcag22", "red_harding"}``, each with ``max_flashes_per_second``, ``flashing_area_sr``
+        (largest within a 10° field, sr), ``fails``, and where and when the most flashes are: ``stimulus``,
+        ``transition`` (the window spans a phase change), ``trial``, ``phase``, ``at_s`` (seconds into the phase),
+        ``sequence_s`` (seconds into the sequence); plus ``fails``, ``frames_analysed`` and ``samples``.
     """
     data = compiled.data
     model = compiled.model
-    refresh = data["display"]["refresh_hz"]
-    stimuli = compiled.stimuli[condition]
-    sources = {s["name"]: s for s in protocol["stimuli"]}
-    RGB_0 = compiled.background.RGB_0
-    points = []
-    for name, source in sources.items():
-        for region, point, area in _regions(source):
-            if math.isinf(area):
-                area = screen_solid_angle(data["display"]["size_cm"], data["viewing_distance_cm"])
-            fine = source["shape"] == "grating" and source["cycles_per_deg"] > FINE_PATTERN_CYCLES_PER_DEG
-            points.append({"stimulus": name, "region": region, "point": point, "area": area, "fine": fine})
-    phases = data["schedules"]["first"] + data["schedules"]["repeat"]
-    pieces = [[] for _ in points]
-    for phase in phases:
-        frames = phase.get("frames")
-        if frames is None:
-            timeout = phase.get("timeout_frames") or math.inf
-            frames = int(min(timeout, RESPOND_FRAMES_S * refresh))
-        if frames == 0:
-            continue
-        for p, info in enumerate(points):
-            RGB = np.repeat(RGB_0[None, :], frames, axis=0)
-            for name in reversed(phase["stimuli"]):
-                region, factor = _covers(sources[name], info["point"])
-                if region is None:
-                    continue
-                delta = (overrides or {}).get(name) if region == "colour" else None
-                delta = stimuli[name][region]["_delta_RGB"] if delta is None else delta
-                m = modulation(stimuli[name]["time_course"], frames, refresh)
-                RGB = RGB_0 + np.outer(m * factor, delta)
-                break
-            pieces[p].append(RGB)
-    series = [np.concatenate(piece) if piece else RGB_0[None, :] for piece in pieces]
+    sequence = build_sequence(compiled, ladder=ladder, stride=stride)
+    runs = _class_runs(compiled, sequence)
     luminance_per_RGB = model.observer.w_L * model.M_LMS[0] + model.observer.w_M * model.M_LMS[1]
     white = float(luminance_per_RGB.sum())
-    total_frames = max(len(s) for s in series)
-    result = {"general": _summarise(points, series, total_frames, refresh,
-                                    lambda RGB, info: [] if info["fine"] else
-                                    general_flash_transitions(RGB @ luminance_per_RGB / white))}
-    for definition in RED_DEFINITIONS:
-        def red(RGB, info, definition=definition):
-            XYZ = RGB @ model.M_XYZ.T + model.XYZ_black
-            uv = colour.xy_to_Luv_uv(colour.XYZ_to_xy(XYZ))
-            return red_flash_transitions(RGB, uv, definition)
-        result[f"red_{definition}"] = _summarise(points, series, total_frames, refresh, red)
-    result["fails"] = any(result[k]["fails"] for k in result if k != "fails")
-    result["frames_analysed"] = total_frames
+    background = np.asarray(data["background"]["device"])
+    unique: dict = {}
+    signals, owner = [], []
+    for levels, starts in runs:
+        key = (levels.tobytes(), starts.tobytes())
+        if key not in unique:  # many classes show the same colours frame for frame (e.g. a blob's outskirts)
+            unique[key] = len(signals)
+            levels = np.where((levels < 0).any(axis=1)[:, None], background[None, :], levels)
+            signals.append(_Signal(device_to_RGB_linear(levels, model.level_outputs), starts, model,
+                                   luminance_per_RGB / white))
+        owner.append(unique[key])
+    result = {}
+    definitions = {"general": None, **{f"red_{d}": d for d in RED_DEFINITIONS}}
+    for key, definition in definitions.items():
+        result[key] = _summarise(sequence, data, signals, np.array(owner), definition)
+    result["fails"] = any(result[k]["fails"] for k in definitions)
+    result["frames_analysed"] = sequence.total_frames
+    result["samples"] = int(sequence.classes.size)
     return result
 
 
-def _summarise(points, series, total_frames, refresh, transitions_of) -> dict:
-    area_by_window = np.zeros(total_frames)
-    worst = {"flashes": 0, "stimulus": None, "region": None, "frame": 0}
-    for info, RGB in zip(points, series):
-        counts = flashes_per_window(transitions_of(RGB, info), total_frames, refresh)
+class _Signal:
+    """One class's colours as runs of frames, with its transitions worked out once per definition."""
+
+    def __init__(self, RGB, starts, model, luminance_weights):
+        self.RGB, self.starts, self.model, self.weights = RGB, starts, model, luminance_weights
+        self._uv = None
+
+    def transition_frames(self, definition) -> np.ndarray:
+        if self.RGB.shape[0] < 2 * MAX_FLASHES_PER_SECOND + 2:
+            return np.array([], dtype=int)  # too few changes in the whole sequence for more than three flashes
+        if definition is None:
+            return self.starts[general_flash_transitions(self.RGB @ self.weights)]
+        if self._uv is None:
+            XYZ = self.RGB @ self.model.M_XYZ.T + self.model.XYZ_black
+            self._uv = colour.xy_to_Luv_uv(colour.XYZ_to_xy(XYZ))
+        return self.starts[red_flash_transitions(self.RGB, self._uv, definition)]
+
+
+def _summarise(sequence, data, signals, owner, definition) -> dict:
+    total, refresh = sequence.total_frames, sequence.refresh_hz
+    fine = _fine_classes(sequence, data) if definition is None else set()
+    counts_by_signal: dict = {}
+    flashing = {}
+    worst = {"flashes": 0, "class": None, "frame": 0}
+    for c, s in enumerate(owner.tolist()):
+        if c in fine:
+            continue
+        if s not in counts_by_signal:
+            frames = signals[s].transition_frames(definition)
+            counts_by_signal[s] = flashes_per_window(frames, total, refresh) if frames.size > 1 else None
+        counts = counts_by_signal[s]
+        if counts is None:
+            continue
         best = int(np.argmax(counts))
         if counts[best] > worst["flashes"]:
-            worst = {"flashes": int(counts[best]), "stimulus": info["stimulus"], "region": info["region"],
-                     "frame": best}
-        area_by_window += np.where(counts > MAX_FLASHES_PER_SECOND, info["area"], 0.0)
-    area = float(min(area_by_window.max(initial=0.0), TEN_DEGREE_FIELD_SR))
-    return {"max_flashes_per_second": worst["flashes"], "stimulus": worst["stimulus"], "region": worst["region"],
-            "at_s": worst["frame"] / refresh, "flashing_area_sr": area,
+            worst = {"flashes": int(counts[best]), "class": c, "frame": best}
+        if counts[best] > MAX_FLASHES_PER_SECOND:
+            flashing[c] = counts > MAX_FLASHES_PER_SECOND
+    area, area_frame = 0.0, worst["frame"]
+    if flashing:
+        names = list(flashing)
+        matrix = np.stack([flashing[c] for c in names])
+        sets, first = np.unique(matrix.T, axis=0, return_index=True)
+        for members, frame in zip(sets, first):
+            if not members.any():
+                continue
+            mask = np.isin(sequence.classes, np.array(names)[members])
+            found = _largest_in_field(sequence, mask)
+            if found > area:
+                area, area_frame = found, int(frame)
+    return {"max_flashes_per_second": worst["flashes"], **_where(sequence, worst), "flashing_area_sr": area,
+            "area_at_s": area_frame / refresh,
             "fails": worst["flashes"] > MAX_FLASHES_PER_SECOND and area > WCAG_FLASH_AREA_SR}
+
+
+def _where(sequence, worst) -> dict:
+    """Where (stimulus or transition) and when (trial, phase, seconds into it) a class flashes the most."""
+    refresh = sequence.refresh_hz
+    frame = worst["frame"]
+    starts = np.array([o.start for o in sequence.occurrences])
+    first = int(np.searchsorted(starts, frame, side="right") - 1)
+    last = int(np.searchsorted(starts, frame + round(refresh), side="left") - 1)
+    occurrence = sequence.occurrences[first]
+    shown = []
+    if worst["class"] is not None:
+        sample = sequence.representative[worst["class"]]
+        for o in sequence.occurrences[first:last + 1]:
+            k = o.regions.keys[o.regions.labels.ravel()[sample]]
+            name = k[0] if isinstance(k[0], str) else o.items[k[0]].name + ("" if k[1] == "colour" else " (surround)")
+            if not shown or shown[-1] != name:
+                shown.append(name)
+    phases = [o.phase for o in sequence.occurrences[first:last + 1]]
+    return {"stimulus": " → ".join(shown) if shown else None, "transition": len(phases) > 1 and len(shown) > 1,
+            "trial": occurrence.trial, "phase": occurrence.phase, "phases": phases,
+            "at_s": (frame - occurrence.start) / refresh, "sequence_s": frame / refresh}

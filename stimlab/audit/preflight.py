@@ -13,11 +13,14 @@ from ..colorimetry.adaptation import induced_match_cone_contrast, null_cone_cont
 from ..colorimetry.device import device_to_RGB_linear
 from ..colorimetry.display import CHANNELS
 from ..colorimetry.gamut import scale_limit
+from ..colorimetry.geometry import WCAG_FLASH_AREA_SR
 from ..colorimetry.rods import DEFAULT_MAX_ROD_CONTRAST, MESOPIC_UPPER_CD_M2, NOT_AVAILABLE
 from ..colorimetry.spaces import LMS_to_DKL
 from ..experiment.protocol import CAUTION
+from ..experiment.timecourse import shown_frequency_hz, square_period_frames
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, profile_warnings
-from .photosensitivity import analyse_condition
+from .flashes import MAX_FLASHES_PER_SECOND
+from .photosensitivity import analyse_sequence
 
 __all__ = ["audit_protocol", "KINDS", "SEVERITIES"]
 
@@ -56,15 +59,14 @@ def audit_protocol(compiled, protocol: dict, profile: dict, *, max_age_days: int
         index = condition["index"]
         label = condition["label"]
         for name, stimulus in compiled.stimuli[index].items():
-            for key in ("colour", "second_colour"):
-                if key in stimulus:
-                    where = f"{label} / {name}" + ("" if key == "colour" else " (second colour)")
-                    _colour(findings, compiled, stimulus, key, where)
-                    rods.check(stimulus[key], where)
+            for key, entry in stimulus.colours().items():
+                where = f"{label} / {name}" + ("" if key == "colour" else " (second colour)")
+                _colour(findings, compiled, entry, where)
+                rods.check(entry, where)
         response = compiled.responses[index]
         if response is not None:
             _response(findings, compiled, response, label)
-        if "adaptation_model" in protocol and response is not None and response["kind"] == "adjustment":
+        if "adaptation_model" in protocol and response is not None and response.kind == "adjustment":
             _prediction(findings, compiled, protocol["adaptation_model"], index, response, label)
     _distinct_conditions(findings, compiled)
     _timing(findings, compiled, protocol)
@@ -89,11 +91,10 @@ def _display(findings, protocol, profile, max_age_days, today):
         findings.add("display", "warn", "display profile", warning)
 
 
-def _colour(findings, compiled, stimulus, key, where):
-    entry = stimulus[key]
+def _colour(findings, compiled, entry, where):
     background = compiled.background
-    delta = entry["_delta_RGB"]
-    for extreme in entry["extremes"]:
+    delta = entry.delta_RGB
+    for extreme in entry.extremes:
         if not extreme["in_gamut"]:
             over = _overshoot(extreme["rgb_linear"])
             fits, channel = scale_limit(background.RGB_0, extreme["modulation"] * delta)
@@ -103,7 +104,7 @@ def _colour(findings, compiled, stimulus, key, where):
                          + f" beyond 0..1 (linear); only ×{float(fits):.3f} of this contrast fits",
                          modulation=extreme["modulation"], overshoot=over, max_scale=float(fits),
                          limiting_channel=CHANNELS[int(channel)] if channel >= 0 else None)
-    contrast = np.asarray(entry["cone_contrast"])
+    contrast = np.asarray(entry.cone_contrast)
     pooled = float(np.linalg.norm(contrast))
     if pooled < 1e-9:  # the background itself: no direction to scale
         return
@@ -113,10 +114,10 @@ def _colour(findings, compiled, stimulus, key, where):
                  f"this direction can be scaled ×{float(up):.3f} (and ×{float(down):.3f} the other way) before it "
                  f"leaves the gamut: up to {pooled * float(up):.4f} pooled cone contrast",
                  scale_up=float(up), scale_down=float(down), pooled_cone_contrast=pooled)
-    if entry["device"] is not None:
+    if entry.device is not None:
         # Against the background as shown (it is quantised too), which is what the observer adapts to.
         outputs = compiled.model.level_outputs
-        shown = compiled.model.RGB_linear_to_LMS(device_to_RGB_linear(np.array(entry["device"]), outputs))
+        shown = compiled.model.RGB_linear_to_LMS(device_to_RGB_linear(np.array(entry.device), outputs))
         shown_background = compiled.model.RGB_linear_to_LMS(
             device_to_RGB_linear(np.array(compiled.data["background"]["device"]), outputs))
         realised = shown / shown_background - 1
@@ -154,14 +155,14 @@ class _RodCheck:
         if self.response is None:
             return
         background = self.background
-        contrast = np.asarray(entry["cone_contrast"])
+        contrast = np.asarray(entry.cone_contrast)
         pooled = float(np.linalg.norm(contrast))
         if pooled < 1e-9:
             return
-        rod = float(self.response.contrast_of_change(entry["_delta_RGB"], background.RGB_0))
-        largest = max(abs(rod * e["modulation"]) for e in entry["extremes"])
+        rod = float(self.response.contrast_of_change(entry.delta_RGB, background.RGB_0))
+        largest = max(abs(rod * e["modulation"]) for e in entry.extremes)
         obs = background.model.observer
-        lum = float(LMS_to_DKL(np.asarray(entry["lms"]), background.LMS_0, obs.w_L, obs.w_M)[0])
+        lum = float(LMS_to_DKL(np.asarray(entry.lms), background.LMS_0, obs.w_L, obs.w_M)[0])
         isoluminant = abs(lum) <= 1e-6 * pooled
         isolating = int(np.sum(np.abs(contrast) > 1e-6 * pooled)) == 1
         values = dict(rod_contrast=rod, largest_rod_contrast=largest, background_cd_m2=self.luminance,
@@ -181,16 +182,16 @@ class _RodCheck:
 
 
 def _response(findings, compiled, response, label):
-    where = f"{label} / {response['kind']} of {response['target']}"
-    positions = response["_positions"]
-    inside = np.array(response["in_gamut"])
-    axes = response["_axes"]
+    where = f"{label} / {response.kind} of {response.target}"
+    positions = response.positions
+    inside = np.array(response.in_gamut)
+    axes = response.axes
     low, high = positions[0], positions[-1]
     origin_RGB = compiled.model.LMS_to_RGB_linear(
-        compiled.background.colour_to_LMS(response["space"], response["_base"]))
+        compiled.background.colour_to_LMS(response.space, response.base))
     for d, axis in enumerate(axes):
         step_RGB = compiled.model.LMS_to_RGB_linear(
-            compiled.background.colour_to_LMS(response["space"], response["_base"] + axis)) - origin_RGB
+            compiled.background.colour_to_LMS(response.space, response.base + axis)) - origin_RGB
         top, top_channel = scale_limit(origin_RGB, step_RGB)
         bottom, bottom_channel = scale_limit(origin_RGB, -step_RGB)
         axis_name = f" along axis {d + 1}" if len(axes) > 1 else ""
@@ -204,8 +205,8 @@ def _response(findings, compiled, response, label):
     if not inside.all():
         findings.add("gamut", "fail", where, f"{int((~inside).sum())} of {inside.size} positions are out of gamut "
                      "and cannot be shown", out_of_gamut=int((~inside).sum()), positions=int(inside.size))
-    device = np.array([d if d is not None else [-1, -1, -1] for d in response["device"]])
-    count = response["positions"]["count"]
+    device = np.array([d if d is not None else [-1, -1, -1] for d in response.device])
+    count = response.positions.size
     grid = device.reshape((count,) * len(axes) + (3,))
     repeated = 0
     steps = 0
@@ -235,21 +236,21 @@ def _prediction(findings, compiled, model, index, response, label):
     k = float(model.get("exponent", 1.0))
     background = compiled.background
     if model["kind"] == "after_image":
-        adapter = np.asarray(stimuli[model["adapter"]]["colour"]["cone_contrast"])
+        adapter = np.asarray(stimuli[model["adapter"]].colour.cone_contrast)
         predicted = null_cone_contrast(adapter, k)
         what = "null of the after-image"
     else:
         inducer = stimuli[model["inducer"]]
-        surround = inducer.get("second_colour", inducer["colour"])["cone_contrast"]
-        test = stimuli[model["test"]]["colour"]["cone_contrast"]
+        surround = (inducer.second_colour or inducer.colour).cone_contrast
+        test = stimuli[model["test"]].colour.cone_contrast
         predicted = induced_match_cone_contrast(test, surround, k)
         what = "match to the induced colour"
     LMS = background.LMS_0 * (1 + predicted)
-    target = background.LMS_to_space(response["space"], LMS)
-    axes = response["_axes"]
-    position, *_ = np.linalg.lstsq(axes.T, target - response["_base"], rcond=None)
-    off_line = float(np.linalg.norm(response["_base"] + position @ axes - target))
-    low, high = response["_positions"][0], response["_positions"][-1]
+    target = background.LMS_to_space(response.space, LMS)
+    axes = response.axes
+    position, *_ = np.linalg.lstsq(axes.T, target - response.base, rcond=None)
+    off_line = float(np.linalg.norm(response.base + position @ axes - target))
+    low, high = response.positions[0], response.positions[-1]
     margin = float(np.min(np.r_[position - low, high - position]))
     fits, _ = scale_limit(background.RGB_0, background.model.LMS_to_RGB_linear(LMS) - background.RGB_0)
     where = f"{label} / predicted {what}"
@@ -286,10 +287,9 @@ def _timing(findings, compiled, protocol):
             if "frames" not in phase or phase["requested_s"] == 0:
                 continue
             where = f"{'first trial' if which == 'first' else 'later trials'} / {phase['phase']}"
-            if phase["frames"] / refresh < phase["requested_s"] and phase["frames"] == 1 and \
-                    phase["requested_s"] < 0.5 / refresh:
-                findings.add("timing", "warn", where, f"{phase['requested_s']} s is shorter than one frame; shown "
-                             f"for one frame ({1 / refresh:.4f} s)", **phase)
+            if phase["requested_s"] < 1 / refresh:
+                findings.add("timing", "warn", where, f"{phase['requested_s']} s is shorter than one frame at "
+                             f"{refresh:g} Hz; it is shown for one frame ({1000 / refresh:.1f} ms)", **phase)
             elif abs(phase["actual_s"] - phase["requested_s"]) > 1e-9:
                 findings.add("timing", "info", where, f"requested {phase['requested_s']} s is not a whole number "
                              f"of frames at {refresh:g} Hz: shown for {phase['frames']} frames = "
@@ -297,53 +297,59 @@ def _timing(findings, compiled, protocol):
     for stimulus in protocol["stimuli"]:
         course = stimulus.get("time_course", {})
         if course.get("kind") == "square":
-            half = max(1, round(refresh / (2 * course["frequency_hz"])))
-            actual = refresh / (2 * half)
+            period = square_period_frames(course["frequency_hz"], refresh)
+            actual = shown_frequency_hz(course, refresh)
             if abs(actual - course["frequency_hz"]) > 0.01 * course["frequency_hz"]:
                 findings.add("timing", "warn", stimulus["name"], f"square flicker at {course['frequency_hz']:g} Hz "
-                             f"runs at {actual:.3f} Hz ({half} frames per half cycle at {refresh:g} Hz)",
-                             requested_hz=course["frequency_hz"], actual_hz=actual)
+                             f"runs at {actual:.3f} Hz ({period} frames per cycle, {(period + 1) // 2} on and "
+                             f"{period // 2} off, at {refresh:g} Hz)",
+                             requested_hz=course["frequency_hz"], actual_hz=actual, period_frames=period)
 
 
 def _photosensitivity(findings, compiled, protocol) -> bool:
     flicker = any(s.get("time_course", {}).get("kind", "steady") != "steady" for s in protocol["stimuli"])
     if flicker:
         findings.add("photosensitivity", "warn", "protocol", "this protocol flickers. " + CAUTION)
-    for condition in compiled.data["conditions"]:
-        cases = [(analyse_condition(compiled, condition["index"], protocol), "")]
-        response = compiled.responses[condition["index"]]
-        if response is not None and response["kind"] == "adjustment":
-            course = compiled.stimuli[condition["index"]][response["target"]]["time_course"]
-            if course["kind"] != "steady":  # a flickering adjusted target: check the reach of the adjustment too
-                ends = [0, len(response["_RGB"]) - 1]
-                for end in ends:
-                    delta = response["_RGB"][end] - compiled.background.RGB_0
-                    label = f" (adjusted to position {', '.join(f'{p:+g}' for p in response['_grid'][end])})"
-                    cases.append((analyse_condition(compiled, condition["index"], protocol,
-                                                    {response["target"]: delta}), label))
-        for result, label in cases:
-            _flash_findings(findings, result, condition, label)
+    cases = [(analyse_sequence(compiled), "")]
+    ends = set()
+    for condition in compiled.conditions:
+        response = condition.response
+        if response is not None and response.kind == "adjustment" and \
+                condition.stimuli[response.target].time_course["kind"] != "steady":
+            ends.update({0, len(response.RGB) - 1})  # a flickering adjusted target: the reach of the adjustment too
+    for end in sorted(ends):
+        cases.append((analyse_sequence(compiled, ladder=end), f" (adjusted to ladder entry {end})"))
+    seen = set()
+    for result, label in cases:
+        _flash_findings(findings, result, label, seen)
     return flicker
 
 
-def _flash_findings(findings, result, condition, label):
+def _flash_findings(findings, result, label, seen):
     for key, name in (("general", "general"), ("red_wcag22", "red (WCAG 2.2 / ISO 9241-391)"),
                       ("red_harding", "red (Harding & Binnie)")):
         r = result[key]
-        if r["max_flashes_per_second"] <= 3:
+        if r["max_flashes_per_second"] <= MAX_FLASHES_PER_SECOND:
             continue
-        where = f"{condition['label']} / {r['stimulus']}{label}"
+        what = ("the change between phases " + " → ".join(r["phases"]) + f" ({r['stimulus']})") if r["transition"] \
+            else r["stimulus"]
+        where = f"trial {r['trial'] + 1} / {r['phase']} / {what}{label}"
+        signature = (key, r["max_flashes_per_second"], round(r["flashing_area_sr"], 5), r["stimulus"], r["fails"])
+        if signature in seen:
+            continue
+        seen.add(signature)
+        when = f"from {r['at_s']:.2f} s into the {r['phase']} phase of trial {r['trial'] + 1}"
         if r["fails"]:
             findings.add("photosensitivity", "fail", where,
-                         f"{r['max_flashes_per_second']} {name} flashes in one second (at {r['at_s']:.2f} s) over "
-                         f"{r['flashing_area_sr']:.4f} sr: above WCAG 2.2's 3 flashes and 0.006 sr. Running it "
-                         "needs a recorded acknowledgement and ethics approval reference. " + CAUTION,
-                         definition=key, **r)
+                         f"{r['max_flashes_per_second']} {name} flashes in one second ({when}) over "
+                         f"{r['flashing_area_sr']:.4f} sr within a 10° field: above WCAG 2.2's 3 flashes and "
+                         f"{WCAG_FLASH_AREA_SR} sr. Running it needs a recorded acknowledgement and ethics approval "
+                         "reference. " + CAUTION, definition=key, **r)
         else:
             findings.add("photosensitivity", "warn", where,
-                         f"{r['max_flashes_per_second']} {name} flashes per second, but over only "
-                         f"{r['flashing_area_sr']:.4f} sr (≤ 0.006 sr): passes WCAG 2.2 on area", definition=key,
-                         **r)
+                         f"{r['max_flashes_per_second']} {name} flashes per second ({when}), but over only "
+                         f"{r['flashing_area_sr']:.4f} sr within a 10° field (≤ {WCAG_FLASH_AREA_SR} sr): passes "
+                         "WCAG 2.2 on area", definition=key, **r)
 
 
 def _geometry(findings, compiled):

@@ -19,9 +19,12 @@ from ..colorimetry.geometry import degrees_to_cm, eccentricity_to_cm
 from ..colorimetry.observers import observer as standard_observer
 from ..colorimetry.stimulus import Background
 from ..errors import InputError
+from .compiled import CompiledColour, CompiledCondition, CompiledStimulus
 from .design import conditions_from_variables, trial_order
+from .plan import build_plan, plan_sha256
 from .protocol import json_path, protocol_sha256
 from .responses import compile_response
+from .timecourse import phase_frames, shown_frequency_hz
 
 __all__ = ["compile_protocol", "Compiled", "MODULATION_STEPS", "REFERENCE_GREY"]
 
@@ -33,14 +36,33 @@ MODULATION_STEPS = 255
 
 
 class Compiled:
-    """A compiled protocol: ``data`` (JSON-able, for the runner) plus the live objects the audit needs."""
+    """A compiled protocol: ``data`` (JSON-able, for the runner) plus the typed conditions the audit reads.
 
-    def __init__(self, data, model, background, stimuli_by_condition, responses_by_condition):
+    Attributes
+    ----------
+    data
+        What the runner receives.
+    model, background
+        The display model and background the colours were compiled for.
+    conditions
+        One :class:`~stimlab.experiment.compiled.CompiledCondition` per condition, in index order.
+    """
+
+    def __init__(self, data, model, background, conditions):
         self.data = data
         self.model = model
         self.background = background
-        self.stimuli = stimuli_by_condition  # [condition][name] -> dict with numpy arrays (audit)
-        self.responses = responses_by_condition  # [condition] -> compiled response or None
+        self.conditions = conditions
+
+    @property
+    def stimuli(self) -> list:
+        """``[condition][name]`` → :class:`~stimlab.experiment.compiled.CompiledStimulus`."""
+        return [c.stimuli for c in self.conditions]
+
+    @property
+    def responses(self) -> list:
+        """``[condition]`` → :class:`~stimlab.experiment.compiled.CompiledResponse` or ``None``."""
+        return [c.response for c in self.conditions]
 
 
 def _resolve(value, values: dict):
@@ -82,27 +104,22 @@ def _device_or_none(background: Background, RGB: np.ndarray):
     return RGB_linear_to_device_or_none(RGB, background.model.level_outputs)
 
 
-def _compile_colour(background: Background, LMS: np.ndarray, stimulus: dict) -> dict:
+def _compile_colour(background: Background, LMS: np.ndarray, stimulus: dict) -> CompiledColour:
     RGB_0 = background.RGB_0
     delta_RGB = background.model.LMS_to_RGB_linear(LMS) - RGB_0
     extremes = _modulation_extremes(stimulus)
     RGB_extremes = RGB_0 + np.outer(extremes, delta_RGB)
     device, inside = _device_or_none(background, RGB_extremes)
-    entry = {
-        "lms": LMS.tolist(),
-        "cone_contrast": (LMS / background.LMS_0 - 1).tolist(),
-        "rgb_linear": (RGB_0 + delta_RGB).tolist(),
-        "device": device[extremes.index(1.0)],
-        "extremes": [{"modulation": m, "rgb_linear": rgb.tolist(), "device": d, "in_gamut": bool(ok)}
-                     for m, rgb, d, ok in zip(extremes, RGB_extremes, device, inside)],
-        "in_gamut": bool(inside.all()),
-        "_delta_RGB": delta_RGB,
-    }
+    table = None
     if needs_modulation_table(stimulus):
         m = np.linspace(-1, 1, 2 * MODULATION_STEPS + 1)
         table, _ = _device_or_none(background, RGB_0 + np.outer(m, delta_RGB))
-        entry["modulation_table"] = table
-    return entry
+    return CompiledColour(
+        lms=LMS.tolist(), cone_contrast=(LMS / background.LMS_0 - 1).tolist(), rgb_linear=(RGB_0 + delta_RGB).tolist(),
+        device=device[extremes.index(1.0)],
+        extremes=[{"modulation": m, "rgb_linear": rgb.tolist(), "device": d, "in_gamut": bool(ok)}
+                  for m, rgb, d, ok in zip(extremes, RGB_extremes, device, inside)],
+        in_gamut=bool(inside.all()), delta_RGB=delta_RGB, modulation_table=table)
 
 
 def _geometry(stimulus: dict, distance_cm: float, px_per_cm: float) -> dict:
@@ -122,17 +139,13 @@ def _geometry(stimulus: dict, distance_cm: float, px_per_cm: float) -> dict:
     return geometry
 
 
-def _frames(seconds: float, refresh_hz: float) -> int:
-    return max(1, int(round(seconds * refresh_hz))) if seconds > 0 else 0
-
-
 def _time_course(stimulus: dict, refresh_hz: float) -> dict:
     course = dict(stimulus.get("time_course", {"kind": "steady"}))
     for key in ("ramp_on_ms", "ramp_off_ms"):
         if course.get(key):
-            course[key.replace("_ms", "_frames")] = _frames(course[key] / 1000, refresh_hz)
-    if "frequency_hz" in course:
-        course["frames_per_cycle"] = refresh_hz / course["frequency_hz"]
+            course[key.replace("_ms", "_frames")] = phase_frames(course[key] / 1000, refresh_hz)
+    if course["kind"] != "steady":
+        course["shown_frequency_hz"] = shown_frequency_hz(course, refresh_hz)
     return course
 
 
@@ -146,12 +159,12 @@ def _schedules(protocol: dict, refresh_hz: float) -> dict:
                 name, seconds = "top_up", phase["top_up_s"]
             entry = {"phase": name, "stimuli": phase.get("stimuli", []), "fixation": phase.get("fixation", True)}
             if phase["phase"] == "respond":
-                entry["timeout_frames"] = _frames(phase["timeout_s"], refresh_hz) if "timeout_s" in phase else None
+                entry["timeout_frames"] = phase_frames(phase["timeout_s"], refresh_hz) if "timeout_s" in phase else None
                 entry["response"] = phase["response"]["method"]
                 if "keys" in phase["response"]:
                     entry["keys"] = phase["response"]["keys"]
             else:
-                frames = _frames(seconds, refresh_hz)
+                frames = phase_frames(seconds, refresh_hz)
                 entry.update(frames=frames, requested_s=seconds, actual_s=frames / refresh_hz)
             schedules[which].append(entry)
     return schedules
@@ -216,31 +229,29 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
     conditions = conditions_from_variables(design.get("variables", {}))
     response_index, response = _response(protocol)
 
-    stimuli_by_condition, responses_by_condition, compiled_conditions = [], [], []
+    compiled_conditions = []
     for condition in conditions:
         values = condition["values"]
         stimuli = {}
         for i, stimulus in enumerate(protocol["stimuli"]):
-            entry = {"name": stimulus["name"], "geometry": _geometry(stimulus, distance, px_per_cm),
-                     "time_course": _time_course(stimulus, refresh), "source": stimulus}
+            entry = CompiledStimulus(name=stimulus["name"], geometry=_geometry(stimulus, distance, px_per_cm),
+                                     time_course=_time_course(stimulus, refresh), source=stimulus)
             for key in ("colour", "second_colour"):
                 if key in stimulus:
                     LMS = _colour_to_LMS(stimulus[key], background, values, json_path(["stimuli", i, key]))
-                    entry[key] = _compile_colour(background, LMS, stimulus)
+                    setattr(entry, key, _compile_colour(background, LMS, stimulus))
             stimuli[stimulus["name"]] = entry
         compiled_response = None
         if response is not None and response["method"] in ("adjustment", "staircase"):
             where = json_path(["trial", response_index, "response"])
             compiled_response = compile_response(response, stimuli, background, where, values)
-        stimuli_by_condition.append(stimuli)
-        responses_by_condition.append(compiled_response)
-        compiled_conditions.append({
-            "index": condition["index"], "label": condition["label"], "labels": condition["labels"],
-            "stimuli": {n: _public(s) for n, s in stimuli.items()},
-            "response": _public(compiled_response) if compiled_response else None,
-        })
+        compiled_conditions.append(CompiledCondition(index=condition["index"], label=condition["label"],
+                                                     labels=condition["labels"], stimuli=stimuli,
+                                                     response=compiled_response))
 
-    trials = _trials(design, conditions, response, responses_by_condition, rng, participant)
+    schedules = _schedules(protocol, refresh)
+    plan = build_plan(compiled_conditions[0].stimuli, schedules, refresh)
+    trials = _trials(design, conditions, response, [c.response for c in compiled_conditions], rng, participant)
     data = {
         "stimlab_compiled": 1,
         "protocol": {"title": about["title"], "version": about.get("version", ""), "sha256": protocol_sha256(protocol)},
@@ -254,20 +265,15 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
         "background": {"rgb_linear": background.RGB_0.tolist(), "lms": background.LMS_0.tolist(),
                        "device": background.to_device("rgb_linear", background.RGB_0).tolist()},
         "fixation": _fixation(protocol, background, distance, px_per_cm),
-        "schedules": _schedules(protocol, refresh),
+        "schedules": schedules,
         "adaptation_model": protocol.get("adaptation_model"),
         "photometry": protocol.get("photometry"),
-        "conditions": compiled_conditions,
+        "conditions": [c.to_json() for c in compiled_conditions],
         "trials": trials,
+        "plan": plan,
     }
-    return Compiled(data, model, background, stimuli_by_condition, responses_by_condition)
-
-
-def _public(entry):
-    """Drop audit-only fields (names starting with '_', the source stimulus) for the JSON form."""
-    if isinstance(entry, dict):
-        return {k: _public(v) for k, v in entry.items() if not k.startswith("_") and k != "source"}
-    return entry
+    data["plan_sha256"] = plan_sha256(data)
+    return Compiled(data, model, background, compiled_conditions)
 
 
 def _fixation(protocol, background, distance, px_per_cm):
@@ -305,8 +311,8 @@ def _trials(design, conditions, response, responses, rng, participant) -> list:
             trial = {"index": len(trials), "block": block, "condition": condition,
                      "schedule": "first" if position == 0 else "repeat"}
             compiled = responses[condition]
-            if compiled is not None and compiled["kind"] == "adjustment":
-                trial["start"] = compiled["_start"](rng)
+            if compiled is not None and compiled.kind == "adjustment":
+                trial["start"] = compiled.start(rng)
             if response is not None and "2afc" in (response["method"], response.get("task")):
                 trial["target_side"] = rng.choice(("left", "right"))
             trials.append(trial)

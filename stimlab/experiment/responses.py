@@ -14,6 +14,7 @@ import numpy as np
 from ..colorimetry.device import RGB_linear_to_device_or_none
 from ..colorimetry.stimulus import Background
 from ..errors import InputError
+from .compiled import CompiledResponse
 
 __all__ = ["compile_response", "ladder"]
 
@@ -36,7 +37,7 @@ def _table(background: Background, LMS: np.ndarray):
 
 
 def compile_response(response: dict, stimuli: dict, background: Background, where: str,
-                     values: dict | None = None) -> dict:
+                     values: dict | None = None) -> CompiledResponse:
     """Compile an adjustment or staircase response for one condition (``values``: the condition's variables)."""
     values = values or {}
     if isinstance(response.get("axis"), (str, list)):
@@ -45,7 +46,7 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
                                                                  for v in axis]
         response = {**response, "axis": axis}
     space = response["space"]
-    target = stimuli[response["target"]]["colour"]
+    target = stimuli[response["target"]].colour
     low, high = response["limits"]
     if response["method"] == "staircase":
         return _staircase(response, background, space, where)
@@ -54,7 +55,7 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
         raise InputError("an adjustment axis must not be all zeros", field=f"{where}.axis")
     fine = float(response["step_fine"])
     positions = ladder(low, high, fine, f"{where}.step_fine")
-    base = background.LMS_to_space(space, np.array(target["lms"]))
+    base = background.LMS_to_space(space, np.array(target.lms))
     if len(axes) == 1:
         grid = positions[:, None]
     else:
@@ -66,7 +67,7 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
     coordinates = base + grid @ axes
     LMS = background.colour_to_LMS(space, coordinates)
     device, inside, RGB = _table(background, LMS)
-    course = stimuli[response["target"]]["time_course"]
+    course = stimuli[response["target"]].time_course
     opposite = None
     if course["kind"] == "square" and course.get("mode") != "on_off":
         # A square-flickering target alternates with its opposite about the background: both need levels.
@@ -90,21 +91,15 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
         index = [min(max(int(round((v - low) / fine)), 0), last) for v in values]
         return index[0] if len(index) == 1 else index
 
-    return {
-        "kind": "adjustment", "target": response["target"], "space": space, "axes": axes.tolist(),
-        "positions": {"low": low, "step": fine, "count": int(positions.size), "dimensions": len(axes)},
-        "coarse_step_positions": coarse,
-        "device": device,
-        "device_opposite": opposite,
-        "in_gamut": inside.tolist(),
-        "origin_lms": origin.tolist(),
-        "axis_lms": axis_LMS.tolist(),
-        "start_nominal": start.tolist(),
-        "_start": start_index, "_RGB": RGB, "_grid": grid, "_positions": positions, "_axes": axes, "_base": base,
-    }
+    return CompiledResponse(
+        kind="adjustment", target=response["target"], space=space, positions=positions, axes=axes, base=base,
+        grid=grid, RGB=RGB, in_gamut=inside.tolist(), device=device, start=start_index,
+        fields={"positions": {"low": low, "step": fine, "count": int(positions.size), "dimensions": len(axes)},
+                "coarse_step_positions": coarse, "device_opposite": opposite, "origin_lms": origin.tolist(),
+                "axis_lms": axis_LMS.tolist(), "start_nominal": start.tolist()})
 
 
-def _staircase(response: dict, background: Background, space: str, where: str) -> dict:
+def _staircase(response: dict, background: Background, space: str, where: str) -> CompiledResponse:
     low, high = response["limits"]
     steps = [float(s) for s in response["steps"]]
     smallest = min(steps)
@@ -115,19 +110,15 @@ def _staircase(response: dict, background: Background, space: str, where: str) -
     start = float(response["start"])
     if not low <= start <= high:
         raise InputError(f"start {start:g} lies outside the limits [{low:g}, {high:g}]", field=f"{where}.start")
-    return {
-        "kind": "staircase", "target": response["target"], "space": space, "axes": [axis.tolist()],
-        "task": response["task"],
-        "positions": {"low": low, "step": smallest, "count": int(values.size), "dimensions": 1},
-        "start_position": int(round((start - low) / smallest)),
-        "step_positions": [int(round(s / smallest)) for s in steps],
-        "rule": response.get("rule", {"up": 1, "down": 2}),
-        "stop_reversals": response.get("stop_reversals", 8),
-        "max_trials": response.get("max_trials", 50),
-        "device": device,
-        "in_gamut": inside.tolist(),
-        "origin_lms": background.LMS_0.tolist(),
-        "axis_lms": (background.colour_to_LMS(space, axis) - background.LMS_0)[None, :].tolist(),
-        "_RGB": RGB, "_grid": values[:, None], "_positions": values, "_axes": axis[None, :],
-        "_base": np.zeros(3),
-    }
+    return CompiledResponse(
+        kind="staircase", target=response["target"], space=space, positions=values, axes=axis[None, :],
+        base=np.zeros(3), grid=values[:, None], RGB=RGB, in_gamut=inside.tolist(), device=device,
+        fields={"task": response["task"],
+                "positions": {"low": low, "step": smallest, "count": int(values.size), "dimensions": 1},
+                "start_position": int(round((start - low) / smallest)),
+                "step_positions": [int(round(s / smallest)) for s in steps],
+                "rule": response.get("rule", {"up": 1, "down": 2}),
+                "stop_reversals": response.get("stop_reversals", 8),
+                "max_trials": response.get("max_trials", 50),
+                "origin_lms": background.LMS_0.tolist(),
+                "axis_lms": (background.colour_to_LMS(space, axis) - background.LMS_0)[None, :].tolist()})

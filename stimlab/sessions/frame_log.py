@@ -15,9 +15,13 @@ kept bit for bit. A block can also be given as plain JSON lists, one per
 column (``{"frame": [0, 1], "t_raf": [0.0, 16.7], …}``), which is converted to the same columns. Both are
 checked by :func:`read_block`, which names the first bad field.
 
-The database stores a block as one binary value (:meth:`FrameBlock.stored`): ``b"SLF1"``, the frame count and
-the byte length of the labels (two little-endian uint32), the labels as UTF-8 JSON, then the seven columns'
-bytes in the order of :data:`FRAME_COLUMNS`.
+``in_phase`` (int32) is the frame's index within its phase, -1 outside trials: with the trial, the phase and the
+compiled frame plan (named by ``plan_sha256`` in the session's compiled data) it says exactly what was on screen.
+Blocks from runners that did not send it read as -1 (empty in CSV).
+
+The database stores a block as one binary value (:meth:`FrameBlock.stored`): ``b"SLF2"``, the frame count and
+the byte length of the labels (two little-endian uint32), the labels as UTF-8 JSON, then the eight columns'
+bytes in the order of :data:`FRAME_COLUMNS`. Blocks stored as ``b"SLF1"`` (the first seven columns) still read.
 """
 
 from __future__ import annotations
@@ -34,14 +38,16 @@ from ..errors import InputError
 
 __all__ = ["FRAME_COLUMNS", "FrameBlock", "read_block", "MAX_FRAMES_PER_BLOCK"]
 
-FRAME_COLUMNS = ("frame", "t_raf", "t_callback", "trial", "phase", "dropped", "drawn")
+FRAME_COLUMNS = ("frame", "t_raf", "t_callback", "trial", "phase", "dropped", "drawn", "in_phase")
+OPTIONAL_COLUMNS = ("in_phase",)
 DTYPES = {"frame": "<u4", "t_raf": "<f8", "t_callback": "<f8", "trial": "<i4", "phase": "<u2", "dropped": "u1",
-          "drawn": "<u2"}
+          "drawn": "<u2", "in_phase": "<i4"}
 NO_LABEL = 65535
 MAX_FRAMES_PER_BLOCK = 100_000  # far above a second at any refresh rate; bounds one request's work
 MAX_LABEL_CHARS = 500
 BITS = np.array(["0", "1"], dtype=object)
-STORED_MAGIC = b"SLF1"
+STORED_MAGIC = b"SLF2"
+STORED_MAGIC_V1 = b"SLF1"
 STORED_HEADER = struct.Struct("<4sII")
 
 
@@ -78,11 +84,12 @@ class FrameBlock:
         return table[np.minimum(self.columns[column], len(self.labels))].tolist()  # NO_LABEL reads as none
 
     def rows(self) -> list[tuple]:
-        """The frames as ``(frame, t_raf, t_callback, trial, phase, dropped, drawn)`` tuples."""
+        """The frames as ``(frame, t_raf, t_callback, trial, phase, dropped, drawn, in_phase)`` tuples."""
         c = self.columns
         trial = [None if t < 0 else t for t in c["trial"].tolist()]
+        in_phase = [None if k < 0 else k for k in c["in_phase"].tolist()]
         return list(zip(c["frame"].tolist(), c["t_raf"].tolist(), c["t_callback"].tolist(), trial,
-                        self.text("phase"), c["dropped"].tolist(), self.text("drawn")))
+                        self.text("phase"), c["dropped"].tolist(), self.text("drawn"), in_phase))
 
     def csv(self) -> str:
         """The frames as CSV lines (no header), ``drawn`` quoted; each time as the shortest decimal that reads back
@@ -93,7 +100,8 @@ class FrameBlock:
         trials = np.array([str(t) if t >= 0 else "" for t in trials.tolist()], dtype=object)
         fields = zip(map(str, c["frame"].tolist()), map(repr, c["t_raf"].tolist()), map(repr, c["t_callback"].tolist()),
                      trials[trial].tolist(), self.text("phase", none=""), BITS[c["dropped"]].tolist(),
-                     self.text("drawn", quoted, '""'))
+                     self.text("drawn", quoted, '""'),
+                     [str(k) if k >= 0 else "" for k in c["in_phase"].tolist()])
         return "\n".join(map(",".join, fields)) + "\n"
 
     @classmethod
@@ -128,12 +136,15 @@ class FrameBlock:
     def from_stored(cls, data: bytes) -> "FrameBlock":
         """Read a stored block (it was checked when it was written)."""
         magic, count, size = STORED_HEADER.unpack_from(data)
-        if magic != STORED_MAGIC:
+        if magic not in (STORED_MAGIC, STORED_MAGIC_V1):
             raise ValueError("not a stored frame block")
         offset = STORED_HEADER.size + size
         labels = json.loads(data[STORED_HEADER.size:offset])
         columns = {}
         for name in FRAME_COLUMNS:
+            if magic == STORED_MAGIC_V1 and name in OPTIONAL_COLUMNS:
+                columns[name] = np.full(count, -1, dtype=DTYPES[name])
+                continue
             columns[name] = np.frombuffer(data, dtype=DTYPES[name], count=count, offset=offset)
             offset += columns[name].nbytes
         return cls(columns, labels)
@@ -162,6 +173,9 @@ def _unpack(block: dict) -> tuple[dict, list[str]]:
     columns = {}
     for name in FRAME_COLUMNS:
         dtype = np.dtype(DTYPES[name])
+        if name in OPTIONAL_COLUMNS and block.get(name) is None:
+            columns[name] = np.full(count, -1, dtype=dtype)  # from a runner that did not send it
+            continue
         try:
             data = base64.b64decode(block.get(name) or "", validate=True)
         except (binascii.Error, TypeError, ValueError):
@@ -176,6 +190,9 @@ def _unpack(block: dict) -> tuple[dict, list[str]]:
 
 def _from_lists(block: dict) -> tuple[dict, list[str]]:
     lists = {name: block.get(name) for name in FRAME_COLUMNS}
+    for name in OPTIONAL_COLUMNS:
+        if lists[name] is None and isinstance(lists["frame"], list):
+            lists[name] = [-1] * len(lists["frame"])
     missing = [name for name, values in lists.items() if not isinstance(values, list)]
     if missing:
         raise InputError(f"frames must be packed (with count and labels) or an object of equal-length lists: "
@@ -213,7 +230,8 @@ def _from_lists(block: dict) -> tuple[dict, list[str]]:
     columns = {"frame": numbers("frame", (int,)), "t_raf": numbers("t_raf", (int, float)),
                "t_callback": numbers("t_callback", (int, float)), "trial": numbers("trial", (int,), none=-1),
                "dropped": [int(v) for v in numbers("dropped", (int, bool))],
-               "phase": codes("phase"), "drawn": codes("drawn")}
+               "phase": codes("phase"), "drawn": codes("drawn"),
+               "in_phase": numbers("in_phase", (int,), none=-1)}
     if len(labels) >= NO_LABEL:
         raise InputError(f"a batch can hold fewer than {NO_LABEL} different phase and drawn texts", field="frames.drawn")
     arrays = {}
@@ -246,6 +264,9 @@ def read_block(block) -> FrameBlock:
         raise InputError("frame numbers must increase within a batch", field="frames.frame")
     if columns["trial"].min() < -1:
         raise InputError("a trial index is a whole number from 0, or -1 (null) for none", field="frames.trial")
+    if columns["in_phase"].min() < -1:
+        raise InputError("a frame's index within its phase is a whole number from 0, or -1 (null) outside trials",
+                         field="frames.in_phase")
     if columns["dropped"].max() > 1:
         raise InputError("dropped is 0 or 1", field="frames.dropped")
     for name in ("phase", "drawn"):

@@ -51,25 +51,23 @@ def plane_for(compiled) -> dict:
     points, segments = [], []
     for condition, stimuli in zip(compiled.data["conditions"], compiled.stimuli):
         for name, stimulus in stimuli.items():
-            for key in ("colour", "second_colour"):
-                if key not in stimulus:
-                    continue
-                _, lm, s = background.LMS_to_space("dkl", np.array(stimulus[key]["lms"]))
+            for entry in stimulus.colours().values():
+                _, lm, s = background.LMS_to_space("dkl", np.array(entry.lms))
                 if abs(lm) < 1e-9 and abs(s) < 1e-9:
                     continue
                 points.append({"label": f"{name} ({condition['label']})", "lm": float(lm), "s": float(s),
-                               "ok": stimulus[key]["in_gamut"]})
+                               "ok": entry.in_gamut})
     for condition, response in zip(compiled.data["conditions"], compiled.responses):
-        if response is None or response["space"] != "dkl":
+        if response is None or response.space != "dkl":
             continue
-        positions = response["_positions"]
-        for axis in response["_axes"]:
-            ends = [background.LMS_to_space("dkl", background.colour_to_LMS("dkl", response["_base"] + p * axis))
+        positions = response.positions
+        for axis in response.axes:
+            ends = [background.LMS_to_space("dkl", background.colour_to_LMS("dkl", response.base + p * axis))
                     for p in (positions[0], positions[-1])]
-            segments.append({"label": f"{response['kind']} of {response['target']} ({condition['label']})",
+            segments.append({"label": f"{response.kind} of {response.target} ({condition['label']})",
                              "from": (float(ends[0][1]), float(ends[0][2])), "to": (float(ends[1][1]),
                                                                                    float(ends[1][2])),
-                             "ok": all(response["in_gamut"])})
+                             "ok": all(response.in_gamut)})
     return dkl_plane_plot(background, points[:40], segments[:40])
 
 

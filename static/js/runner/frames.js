@@ -1,10 +1,11 @@
-// The per-frame log between two batches, in preallocated typed columns: logging a frame writes seven numbers and
+// The per-frame log between two batches, in preallocated typed columns: logging a frame writes eight numbers and
 // allocates nothing, so the log adds no garbage-collection pauses to the frame loop. A batch sends the columns
 // packed (base64 of their little-endian bytes, text as indices into the block's labels), as read by
-// stimlab/frame_log.py.
-export const COLUMNS = ["frame", "t_raf", "t_callback", "trial", "phase", "dropped", "drawn"];
+// stimlab/sessions/frame_log.py. in_phase is the frame's index within its phase (-1 outside trials): with the
+// trial, the phase and the compiled plan it says exactly what was on screen.
+export const COLUMNS = ["frame", "t_raf", "t_callback", "trial", "phase", "dropped", "drawn", "in_phase"];
 const TYPES = { frame: Uint32Array, t_raf: Float64Array, t_callback: Float64Array, trial: Int32Array,
-  phase: Uint16Array, dropped: Uint8Array, drawn: Uint16Array };
+  phase: Uint16Array, dropped: Uint8Array, drawn: Uint16Array, in_phase: Int32Array };
 const NO_LABEL = 65535;
 // Typed arrays use the platform's byte order, little-endian wherever browsers run; the packed form says so.
 if (new Uint8Array(new Uint16Array([1]).buffer)[0] !== 1) throw new Error("the frame log needs a little-endian platform");
@@ -40,7 +41,7 @@ export class FrameColumns {
     return code;
   }
 
-  push(frame, tRaf, tCallback, trial, phase, dropped, drawn) {
+  push(frame, tRaf, tCallback, trial, phase, dropped, drawn, inPhase = -1) {
     const c = this.columns;
     if (this.count === c.frame.length) this.grow();
     const i = this.count++;
@@ -51,6 +52,7 @@ export class FrameColumns {
     c.phase[i] = this.label(phase);
     c.dropped[i] = dropped ? 1 : 0;
     c.drawn[i] = this.label(drawn);
+    c.in_phase[i] = inPhase ?? -1;
   }
 
   grow() {

@@ -62,8 +62,8 @@ export class SessionLog {
   }
 
   // One frame: its number, rAF timestamp, performance.now() at the callback's start, trial, phase, dropped, drawn.
-  frame(number, tRaf, tCallback, trial, phase, dropped, drawn = null) {
-    this.frames.push(number, tRaf, tCallback, trial, phase, dropped, drawn);
+  frame(number, tRaf, tCallback, trial, phase, dropped, drawn = null, inPhase = -1) {
+    this.frames.push(number, tRaf, tCallback, trial, phase, dropped, drawn, inPhase);
   }
 
   cut() {

@@ -96,33 +96,29 @@ export class Painter {
     }
   }
 
-  // Per-pixel stimuli: value = modulation × envelope (× carrier), looked up in the compiled table.
-  putPatch(x, y, { key, sigma, cyclesPerPx = 0, orientation = 0, modulation, table, maxLevel = null }) {
+  // Per-pixel stimuli: each pixel's whole-number profile value s and the frame's step q pick a table entry by the
+  // integer formula of stimlab/experiment/plan.py (exact in doubles: every product stays below 2^53).
+  putPatch(x, y, { key, profile, step, table, ladderPosition = null }) {
     let image = this.patches.get(key);
     if (!image) {
-      const half = Math.ceil(2 * sigma);
+      const { half, values } = profile;
       const size = 2 * half + 1;
       image = this.wide ? this.ctx.createImageData(size, size, { pixelFormat: "rgba-float16" })
         : this.ctx.createImageData(size, size);
-      const cos = Math.cos((orientation * Math.PI) / 180);
-      const sin = Math.sin((orientation * Math.PI) / 180);
-      const steps = table.length - 1;
-      for (let j = 0; j < size; j++) {
-        for (let i = 0; i < size; i++) {
-          const dx = i - half;
-          const dy = half - j;
-          const r2 = dx * dx + dy * dy;
-          const inside = r2 <= 4 * sigma * sigma;
-          let value = Math.exp(-r2 / (2 * sigma * sigma)) * modulation;
-          if (cyclesPerPx) value *= Math.cos(2 * Math.PI * cyclesPerPx * (dx * cos + dy * sin));
-          const index = maxLevel === null ? Math.round(((value + 1) / 2) * steps) : Math.round(value * maxLevel);
-          const levels = inside ? table[Math.max(0, Math.min(steps, index))] : null;
-          const o = 4 * (j * size + i);
-          if (levels) {
-            for (let c = 0; c < 3; c++) image.data[o + c] = this.wide ? levels[c] / this.dMax : levels[c];
-            image.data[o + 3] = this.wide ? 1 : 255;
-          }
-        }
+      const scale = 16384;
+      const steps = 255;
+      for (let p = 0; p < size * size; p++) {
+        const s = values[p];
+        if (s === null) continue;
+        const index = ladderPosition === null
+          ? Math.min(2 * steps, Math.max(0, steps + Math.floor((step * s + scale / 2) / scale)))
+          : Math.min(table.length - 1, Math.max(0,
+            Math.floor((ladderPosition * step * s + (steps * scale) / 2) / (steps * scale))));
+        const levels = table[index];
+        if (!levels) continue;
+        const o = 4 * p;
+        for (let c = 0; c < 3; c++) image.data[o + c] = this.wide ? levels[c] / this.dMax : levels[c];
+        image.data[o + 3] = this.wide ? 1 : 255;
       }
       image.half = half;
       if (this.patches.size > 512) this.patches.clear();

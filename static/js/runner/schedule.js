@@ -1,7 +1,7 @@
 // Frame-locked trials: every phase lasts a whole number of requestAnimationFrame callbacks (no timers), every
 // frame is logged, a frame interval of 1.5 refresh periods or more is a dropped frame, and a phase's onset is the
 // frame it first appears in.
-import { modulation, tableIndex } from "./timecourse.js";
+import { STEPS, stepAt } from "./timecourse.js";
 import { Responder, Staircase } from "./responses.js";
 
 // After entering full screen (at the start and on resuming) the runner shows the background alone for this long
@@ -104,7 +104,8 @@ export class Schedule {
   item(name) {
     const c = this.trial.condition.stimuli[name];
     const phase = this.phase;
-    const m = modulation(c.time_course, this.inPhase, phase.frames);
+    const course = this.data.plan.courses[phase.courses[phase.stimuli.indexOf(name)]];
+    const step = stepAt(course, this.inPhase, phase.frames);
     const g = { ...c.geometry };
     const response = this.trial.condition.response;
     const target = response && response.target === name;
@@ -115,25 +116,24 @@ export class Schedule {
     const perPixel = g.shape === "gaussian" || g.shape === "grating";
     if (target && response.kind === "adjustment" && phase.phase === "respond" && this.responder) {
       // A flickering adjusted target (flicker photometry) alternates with its opposite about the background.
-      item.levels = m < 0 && response.device_opposite ? response.device_opposite[this.responder.index()]
+      item.levels = step < 0 && response.device_opposite ? response.device_opposite[this.responder.index()]
         : this.responder.levels();
     } else if (target && response.kind === "staircase") {
       const index = this.staircase(this.trial.condition.index).index;
       item.levels = response.device[index];
       if (perPixel) {
-        item.patch = { key: `${name}|s${this.trial.condition.index}|${index}|${m.toFixed(4)}`, sigma: g.sigma_px,
-          cyclesPerPx: g.cycles_per_px, orientation: g.orientation_deg, modulation: m, table: response.device,
-          maxLevel: index };
+        item.patch = { key: `${name}|s${this.trial.condition.index}|${index}|${step}`,
+          profile: this.data.plan.patches[name], step, table: response.device, ladderPosition: index };
       }
       return item;
     }
     const table = c.colour.modulation_table;
     if (perPixel) {
-      item.patch = { key: `${name}|${this.trial.condition.index}|${m.toFixed(4)}`, sigma: g.sigma_px,
-        cyclesPerPx: g.cycles_per_px, orientation: g.orientation_deg, modulation: m, table };
-    } else if (table && m !== 1) {
-      item.levels = table[tableIndex(m, table)];
-      if (c.second_colour?.modulation_table) item.second = c.second_colour.modulation_table[tableIndex(m, table)];
+      item.patch = { key: `${name}|${this.trial.condition.index}|${step}`, profile: this.data.plan.patches[name],
+        step, table };
+    } else if (table && step !== STEPS) {
+      item.levels = table[step + STEPS];
+      if (c.second_colour?.modulation_table) item.second = c.second_colour.modulation_table[step + STEPS];
     }
     return item;
   }
@@ -177,7 +177,7 @@ export class Schedule {
       fixation: showFixation ? this.data.fixation : null });
     if (this.logFrames) {
       const drawn = items.map((i) => (i.levels ? i.levels.join(",") : "patch")).join(";");
-      this.log.frame(this.frame, stamp, callbackStart, this.trial.index, phase.phase, dropped, drawn);
+      this.log.frame(this.frame, stamp, callbackStart, this.trial.index, phase.phase, dropped, drawn, this.inPhase);
     }
     this.frame += 1;
     this.inPhase += 1;

@@ -1,0 +1,162 @@
+"""The frame sequence a session shows, as the photosensitivity audit reads it: every trial in compiled order, every
+phase of its schedule, on a grid of sample pixels, grouped into *classes* of samples that show the same colour at
+every frame.
+
+Samples are pixels at a stride chosen from the pixels per degree (the audit's scale); each phase's regions come
+from the reference renderer (:func:`stimlab.experiment.render.phase_regions`), so what is analysed is what the
+runner draws, occlusion included. Two samples that lie in the same region in every phase of the sequence always
+show the same colour; the audit computes one signal per class, and a signal per phase only where the region
+changes within the phase (steady stretches are one run).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..experiment.render import frame_items, phase_regions, schedule_of
+from ..experiment.timecourse import STEPS, steps_for_phase
+
+__all__ = ["Occurrence", "Sequence", "build_sequence", "SAMPLE_DEG", "RESPOND_FRAMES_S"]
+
+SAMPLE_DEG = 0.2
+"""The audit samples a pixel about every 0.2° (at least every pixel): finer than the smallest flash area matters."""
+
+RESPOND_FRAMES_S = 2.0
+"""A respond phase has no fixed length; it is analysed for this long (or its time-out, if shorter)."""
+
+
+@dataclass
+class Occurrence:
+    """One phase of one trial in the sequence: where it starts (frame), how long it lasts and its regions."""
+
+    trial: int
+    condition: int
+    phase: str
+    phase_index: int
+    start: int
+    frames: int
+    items: list
+    regions: object
+    fixation: bool
+    plan_frames: int | None
+
+
+@dataclass
+class Sequence:
+    """The sampled frame sequence: sample positions and solid angles, classes and the phases in order."""
+
+    refresh_hz: float
+    total_frames: int
+    columns: np.ndarray
+    rows: np.ndarray
+    solid_angle: np.ndarray  # sr per sample, (rows, columns)
+    direction: np.ndarray  # unit vectors from the eye, (rows, columns, 3)
+    classes: np.ndarray  # class of each sample, (rows, columns)
+    representative: np.ndarray  # one flat sample index per class
+    occurrences: list = field(default_factory=list)
+
+
+def _sampling(data: dict, stride: int | None):
+    width, height = data["display"]["size_px"]
+    if stride is None:
+        stride = max(1, int(data["pixels_per_degree"] * SAMPLE_DEG))
+    columns = np.arange(stride // 2, width, stride)
+    rows = np.arange(stride // 2, height, stride)
+    cm_x = data["display"]["size_cm"][0] / width
+    cm_y = data["display"]["size_cm"][1] / height
+    distance = data["viewing_distance_cm"]
+    x = ((columns + 0.5) - width / 2) * cm_x
+    y = (height / 2 - (rows + 0.5)) * cm_y
+    X, Y = np.meshgrid(x, y)
+    r2 = X * X + Y * Y + distance * distance
+    # A flat pixel of area A at distance √r2, tilted by the angle whose cosine is D/√r2: A·D/r2^1.5 sr.
+    solid_angle = (cm_x * stride) * (cm_y * stride) * distance / r2 ** 1.5
+    direction = np.stack([X, Y, np.full_like(X, distance)], axis=-1) / np.sqrt(r2)[..., None]
+    return columns, rows, solid_angle, direction
+
+
+def build_sequence(compiled, *, ladder=None, stride: int | None = None) -> Sequence:
+    """The frame sequence of every trial in compiled order (``ladder``: adjustment position shown, default start)."""
+    data = compiled.data
+    refresh = data["display"]["refresh_hz"]
+    columns, rows, solid_angle, direction = _sampling(data, stride)
+    cache: dict = {}
+    occurrences = []
+    start = 0
+    for t, trial in enumerate(data["trials"]):
+        which = schedule_of(data, trial, t == 0)
+        for p, phase in enumerate(data["schedules"][which]):
+            frames = phase.get("frames")
+            plan_frames = frames
+            if frames is None:
+                timeout = phase.get("timeout_frames") or math.inf
+                frames = int(min(timeout, RESPOND_FRAMES_S * refresh))
+            if frames == 0:
+                continue
+            items = frame_items(data, trial, phase, ladder=ladder)
+            fixation = phase.get("fixation", True)
+            key = (which, p, trial.get("target_side"))
+            if key not in cache:
+                cache[key] = phase_regions(data, items, fixation and bool(data.get("fixation")), columns, rows)
+            occurrences.append(Occurrence(t, trial["condition"], phase["phase"], p, start, frames, items,
+                                          cache[key], fixation, plan_frames))
+            start += frames
+    # Classes: samples with the same region label in every distinct region map.
+    composite = np.zeros(rows.size * columns.size, dtype=np.int64)
+    for regions in {id(r): r for r in cache.values()}.values():
+        combined = composite * (len(regions.keys) + 1) + regions.labels.ravel()
+        _, composite = np.unique(combined, return_inverse=True)
+        composite = composite.ravel()
+    _, representative = np.unique(composite, return_index=True)
+    return Sequence(float(refresh), start, columns, rows, solid_angle, direction,
+                    composite.reshape(rows.size, columns.size), representative, occurrences)
+
+
+def _table_levels(data, item, region, steps: np.ndarray, value) -> np.ndarray:
+    """Device levels (n, 3) of one region of an item at each of ``steps`` (−1 where out of gamut)."""
+    from ..experiment.plan import PROFILE_SCALE
+
+    def pick(table, index):
+        return np.array([t if t is not None else (-1, -1, -1) for t in table], dtype=np.int64)[index]
+
+    response = item.response
+    if response is not None:
+        if response["kind"] == "adjustment":
+            normal = pick(response["device"], np.full(steps.size, item.ladder))
+            if response.get("device_opposite"):
+                opposite = pick(response["device_opposite"], np.full(steps.size, item.ladder))
+                return np.where((steps < 0)[:, None], opposite, normal)
+            return normal
+        if value is None:
+            return pick(response["device"], np.full(steps.size, item.ladder))
+        index = (item.ladder * steps * value + STEPS * PROFILE_SCALE // 2) // (STEPS * PROFILE_SCALE)
+        return pick(response["device"], np.clip(index, 0, len(response["device"]) - 1))
+    colour = item.stimulus[region]
+    if value is not None:
+        index = STEPS + (steps * value + PROFILE_SCALE // 2) // PROFILE_SCALE
+        return pick(item.stimulus["colour"]["modulation_table"], np.clip(index, 0, 2 * STEPS))
+    table = colour.get("modulation_table") if item.stimulus["colour"].get("modulation_table") else None
+    device = np.array(colour["device"] if colour["device"] is not None else (-1, -1, -1), dtype=np.int64)
+    if table is None:
+        return np.repeat(device[None, :], steps.size, axis=0)
+    levels = pick(table, steps + STEPS)
+    return np.where((steps == STEPS)[:, None], device[None, :], levels)
+
+
+def region_signal(data: dict, occurrence: Occurrence, key: tuple) -> tuple[np.ndarray, np.ndarray]:
+    """The device levels a region shows through one phase, as runs: (levels per run (n, 3), first frame of each run
+    within the phase)."""
+    if key[0] in ("background", "fixation"):
+        levels = data["background"]["device"] if key[0] == "background" else data["fixation"]["device"]
+        return np.array([levels], dtype=np.int64), np.zeros(1, dtype=np.int64)
+    i, region, value = key
+    item = occurrence.items[i]
+    steps = steps_for_phase(item.course, occurrence.frames)  # an open-ended phase's course has no tail
+    unique, inverse = np.unique(steps, return_inverse=True)
+    levels = _table_levels(data, item, region, unique, value)[inverse.ravel()]
+    change = np.r_[True, np.any(levels[1:] != levels[:-1], axis=1)]
+    starts = np.flatnonzero(change)
+    return levels[starts], starts

@@ -1,0 +1,112 @@
+"""Typed results of compiling: a colour, a stimulus, a response and a condition, each with the live arrays the
+audit needs as attributes and a ``to_json()`` giving exactly what the runner receives.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any, Callable
+
+import numpy as np
+
+__all__ = ["CompiledColour", "CompiledStimulus", "CompiledResponse", "CompiledCondition"]
+
+
+@dataclass
+class CompiledColour:
+    """One colour of a stimulus in one condition.
+
+    ``delta_RGB`` is the linear-RGB change from the background that modulation 1 shows; ``extremes`` lists each
+    modulation the time course and shape reach with its linear RGB, device levels and gamut flag.
+    """
+
+    lms: list
+    cone_contrast: list
+    rgb_linear: list
+    device: list | None
+    extremes: list
+    in_gamut: bool
+    delta_RGB: np.ndarray
+    modulation_table: list | None = None
+
+    def to_json(self) -> dict:
+        entry = {"lms": self.lms, "cone_contrast": self.cone_contrast, "rgb_linear": self.rgb_linear,
+                 "device": self.device, "extremes": self.extremes, "in_gamut": self.in_gamut}
+        if self.modulation_table is not None:
+            entry["modulation_table"] = self.modulation_table
+        return entry
+
+
+@dataclass
+class CompiledStimulus:
+    """A stimulus in one condition: its pixel geometry, frame-count time course and compiled colours."""
+
+    name: str
+    geometry: dict
+    time_course: dict
+    source: dict
+    colour: CompiledColour | None = None
+    second_colour: CompiledColour | None = None
+
+    def colours(self) -> dict:
+        """``{"colour": …, "second_colour": …}`` for the colours this stimulus has."""
+        return {k: c for k, c in (("colour", self.colour), ("second_colour", self.second_colour)) if c is not None}
+
+    def to_json(self) -> dict:
+        entry = {"name": self.name, "geometry": self.geometry, "time_course": self.time_course}
+        entry.update({k: c.to_json() for k, c in self.colours().items()})
+        return entry
+
+
+@dataclass
+class CompiledResponse:
+    """An adjustment or staircase ladder for one condition.
+
+    Attributes
+    ----------
+    positions
+        The ladder's values along one direction, shape (n,).
+    axes
+        One row per direction, in the response's colour space, shape (d, 3).
+    base
+        The space coordinates of position 0, shape (3,).
+    grid
+        The position of every ladder entry, shape (n**d, d).
+    RGB
+        Linear RGB of every ladder entry, shape (n**d, 3).
+    fields
+        The remaining JSON fields the runner receives (ladder device levels, start, steps, …).
+    """
+
+    kind: str
+    target: str
+    space: str
+    positions: np.ndarray
+    axes: np.ndarray
+    base: np.ndarray
+    grid: np.ndarray
+    RGB: np.ndarray
+    in_gamut: list
+    device: list
+    fields: dict = field(default_factory=dict)
+    start: Callable[[Any], Any] | None = None
+
+    def to_json(self) -> dict:
+        return {"kind": self.kind, "target": self.target, "space": self.space, "axes": self.axes.tolist(),
+                **self.fields, "device": self.device, "in_gamut": self.in_gamut}
+
+
+@dataclass
+class CompiledCondition:
+    """One condition: its index and labels, its stimuli by name and its response (or ``None``)."""
+
+    index: int
+    label: str
+    labels: dict
+    stimuli: dict
+    response: CompiledResponse | None = None
+
+    def to_json(self) -> dict:
+        return {"index": self.index, "label": self.label, "labels": self.labels,
+                "stimuli": {n: s.to_json() for n, s in self.stimuli.items()},
+                "response": self.response.to_json() if self.response else None}
