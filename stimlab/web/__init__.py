@@ -11,6 +11,7 @@ from ..sessions.store import Store
 from ..version import __version__
 from .errors import register_error_handlers
 from .security import install_guards
+from .strict import BoundedInt, StrictJSONProvider
 
 __all__ = ["create_app", "MAX_UPLOAD_BYTES"]
 
@@ -32,6 +33,10 @@ def _secret(store: Store) -> str:
     return path.read_text().strip()
 
 
+class _App(Flask):
+    json_provider_class = StrictJSONProvider
+
+
 def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool = False) -> Flask:
     """Build the app on a data folder (created if missing).
 
@@ -43,8 +48,9 @@ def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool
         Host names accepted besides the loopback names (the address given to ``--host``).
     """
     store = Store(data_dir)
-    app = Flask("stimlab", template_folder=str(asset_folder("templates")),
+    app = _App("stimlab", template_folder=str(asset_folder("templates")),
                 static_folder=str(asset_folder("static")))
+    app.url_map.converters["int"] = BoundedInt
     app.config.update(SECRET_KEY=_secret(store), MAX_CONTENT_LENGTH=MAX_UPLOAD_BYTES, TESTING=testing,
                       SESSION_COOKIE_SAMESITE="Strict", SESSION_COOKIE_HTTPONLY=True,
                       TEMPLATES_AUTO_RELOAD=False)

@@ -77,6 +77,17 @@ def register_error_handlers(app: Flask) -> None:
     def input_error(error):
         return _respond(WebError.from_input(error))
 
+    from .strict import BodyError
+
+    @app.errorhandler(BodyError)
+    def body_error(error):
+        return _respond(WebError.from_input(error.error))
+
+    @app.errorhandler(RecursionError)
+    def too_deep(error):
+        return _respond(WebError("the request is nested too deeply to read; send a flatter document", status=400,
+                                 field="body"))
+
     @app.errorhandler(HTTPException)
     def http_error(error):
         title, message = PLAIN.get(error.code, (error.name, error.description))
