@@ -136,7 +136,7 @@ def loads(text, *, file: str | None = None, field: str | None = None):
     try:
         value = json.loads(text, parse_constant=_NonFinite, parse_float=_parse_float)
     except json.JSONDecodeError as error:
-        raise InputError(f"not valid JSON: {error.msg} (line {error.lineno}, column {error.colno})", file=file,
+        raise InputError(f"not valid JSON: {error.msg} at line {error.lineno}, column {error.colno}", file=file,
                          field=field) from None
     except RecursionError:
         raise InputError(f"nested more than {MAX_DEPTH} levels deep; no stimlab document needs that", file=file,

@@ -13,7 +13,7 @@ from werkzeug.exceptions import HTTPException
 
 from ..errors import ConflictError, InputError, NotFoundError
 
-__all__ = ["NotFound", "WebError", "error_body", "register_error_handlers"]
+__all__ = ["BodyError", "NotFound", "WebError", "error_body", "register_error_handlers"]
 
 log = logging.getLogger("stimlab.web")
 
@@ -50,6 +50,16 @@ class WebError(Exception):
         return cls(str(error), "Invalid input", 400, field=error.field, file=error.file, row=error.row)
 
 
+class BodyError(Exception):
+    """A request body that strict JSON refuses (:mod:`stimlab.web.strict`); carries the InputError that says why.
+
+    Not a ValueError, so that ``get_json(silent=True)`` cannot swallow it."""
+
+    def __init__(self, error: InputError):
+        super().__init__(str(error))
+        self.error = error
+
+
 class NotFound(WebError):
     """Nothing at this address: a 404 with the message saying what was looked for and where to find it."""
 
@@ -76,8 +86,6 @@ def register_error_handlers(app: Flask) -> None:
     @app.errorhandler(InputError)
     def input_error(error):
         return _respond(WebError.from_input(error))
-
-    from .strict import BodyError
 
     @app.errorhandler(BodyError)
     def body_error(error):

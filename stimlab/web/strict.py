@@ -11,19 +11,12 @@ from __future__ import annotations
 from flask.json.provider import DefaultJSONProvider
 from werkzeug.routing import IntegerConverter
 
-from .. import jsonio
 from ..errors import InputError
-from .errors import WebError
+from ..jsonio import MAX_INT, dumps
+from ..jsonio import loads as strict_loads
+from .errors import BodyError, WebError
 
 __all__ = ["StrictJSONProvider", "BoundedInt", "BodyError", "whole_number"]
-
-
-class BodyError(Exception):
-    """A request body that strict JSON refuses; carries the :class:`InputError` that says why."""
-
-    def __init__(self, error: InputError):
-        super().__init__(str(error))
-        self.error = error
 
 
 class StrictJSONProvider(DefaultJSONProvider):
@@ -31,7 +24,7 @@ class StrictJSONProvider(DefaultJSONProvider):
 
     def loads(self, s, **kwargs):
         try:
-            return jsonio.loads(s, field="body")
+            return strict_loads(s, field="body")
         except InputError as error:
             raise BodyError(error) from None
 
@@ -44,14 +37,14 @@ class BoundedInt(IntegerConverter):
     """``<int:…>`` limited to SQLite's integer range, so a 2⁷⁰ in a path is a 404, never an overflow."""
 
     def __init__(self, map, *args, **kwargs):
-        kwargs.setdefault("max", jsonio.MAX_INT)
+        kwargs.setdefault("max", MAX_INT)
         super().__init__(map, *args, **kwargs)
 
 
-def whole_number(value, field: str, *, minimum: int = 0, maximum: int = jsonio.MAX_INT) -> int:
+def whole_number(value, field: str, *, minimum: int = 0, maximum: int = MAX_INT) -> int:
     """A whole number from a form or body (``3``, ``"3"``), in range; anything else is a 400 naming ``field``."""
     if isinstance(value, bool) or isinstance(value, (list, dict)) or value is None:
-        raise WebError(f"{field} must be a whole number, got {jsonio.dumps(value)[:40]}", field=field)
+        raise WebError(f"{field} must be a whole number, got {dumps(value)[:40]}", field=field)
     if isinstance(value, float) and value.is_integer():
         value = int(value)
     if isinstance(value, str):
