@@ -81,6 +81,8 @@ def start_session(name: str, display_id, participant: str, ack: dict | None) -> 
         raise WebError.from_input(error)
     display = get_display(whole_number(display_id, "display", minimum=1))
     participant = _participant(participant)
+    if ack is not None:
+        ack = acknowledgement_from(ack)
     report, compiled = run_audit(protocol, display["id"], participant=_participant_number(participant))
     state = gate(report)
     if state["blocked"]:
