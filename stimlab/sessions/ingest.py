@@ -18,10 +18,11 @@ from .events import event_rows
 from .frame_log import FrameBlock, read_block
 
 __all__ = ["create_session", "get_session", "ingest_batch", "frame_blocks", "iter_frames", "set_status", "progress",
-           "take_lease", "LEASE_IDLE_S"]
+           "take_lease", "release_lease", "LEASE_IDLE_S"]
 
 STATUSES = ("running", "interrupted", "complete")
-LEASE_IDLE_S = 15  # a runner posts every second; one silent this long has closed or crashed
+LEASE_IDLE_S = 6  # a runner posts a batch or a heartbeat every 1–2 s; one silent this long has closed or crashed
+RELEASED = "1970-01-01T00:00:00.000+00:00"  # seen_at of a lease its runner gave up (its page closed)
 
 
 def _now() -> str:
@@ -172,8 +173,15 @@ def _check_lease(db, session_id: int, runner: str) -> None:
     elif row[0] != runner:
         raise ConflictError("this session was taken over by another tab or window; this one has stopped and keeps "
                             "what it has not sent until it can hand it over", field="runner")
-    else:
-        db.execute("UPDATE runner_leases SET seen_at = ? WHERE session_id = ?", (_now(), session_id))
+    else:  # a released lease stays released: the closing page's last batches must not hold the session
+        db.execute("UPDATE runner_leases SET seen_at = ? WHERE session_id = ? AND seen_at != ?",
+                   (_now(), session_id, RELEASED))
+
+
+def release_lease(db, session_id: int, runner: str) -> dict:
+    """The runner's page is closing: let the next runner take the session at once."""
+    db.execute("UPDATE runner_leases SET seen_at = ? WHERE session_id = ? AND holder = ?", (RELEASED, session_id, runner))
+    return {"runner": runner, "released": True}
 
 
 def take_lease(db, session_id: int, runner: str, *, take_over: bool = False) -> dict:
@@ -201,7 +209,10 @@ def take_lease(db, session_id: int, runner: str, *, take_over: bool = False) -> 
             raise ConflictError(f"this session is open in another tab or window (active at {row[1][11:19]} UTC). "
                                 "Close that one, or take the session over here: the other one then stops presenting "
                                 "and keeps what it has not sent", field="runner")
-        db.execute("INSERT OR REPLACE INTO runner_leases VALUES (?, ?, ?, ?)", (session_id, runner, _now(), _now()))
+        if row is not None and row[0] == runner:  # the holder's heartbeat
+            db.execute("UPDATE runner_leases SET seen_at = ? WHERE session_id = ?", (_now(), session_id))
+        else:
+            db.execute("INSERT OR REPLACE INTO runner_leases VALUES (?, ?, ?, ?)", (session_id, runner, _now(), _now()))
         db.execute("COMMIT")
     except BaseException:
         db.execute("ROLLBACK")

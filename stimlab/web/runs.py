@@ -18,7 +18,7 @@ from flask import (
 from ..errors import InputError
 from ..experiment.protocol import CAUTION
 from ..jsonio import dumps, loads
-from ..sessions.ingest import create_session, ingest_batch, progress, take_lease
+from ..sessions.ingest import create_session, ingest_batch, progress, release_lease, take_lease
 from . import current_store
 from .displays import _get as get_display
 from .displays import default_display_id
@@ -206,4 +206,6 @@ def api_lease(session_id: int):
     body = request.get_json(silent=True)
     if not isinstance(body, dict):
         raise WebError("send {\"runner\": id, \"take_over\": false}", field="body")
+    if body.get("release") is True:
+        return release_lease(g.db, session_id, str(body.get("runner")))
     return take_lease(g.db, session_id, body.get("runner"), take_over=body.get("take_over", False))
