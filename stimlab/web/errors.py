@@ -19,6 +19,7 @@ log = logging.getLogger("stimlab.web")
 
 PLAIN = {
     400: ("Bad request", "The request could not be read; check the form and try again."),
+    401: ("Access token needed", "Open the address that 'stimlab serve' printed when it started."),
     403: ("Forbidden", "This request was refused."),
     404: ("Not found", "There is nothing at this address; check the link or go back to the list."),
     405: ("Method not allowed", "This address does not accept that kind of request."),
