@@ -53,7 +53,7 @@ def test_an_internal_error_is_plain_words(app, client, monkeypatch):
     import stimlab.web.displays as displays
 
     monkeypatch.setattr(displays, "display_summary", lambda profile: 1 / 0)
-    response = client.get("/api/displays")
+    response = client.get("/api/displays/1")
     assert_shape(response, 500)
     assert "nothing you had saved was changed" in response.get_json()["error"]["message"]
 

@@ -6,7 +6,7 @@ import argparse
 
 import numpy as np
 
-__all__ = ["numbers"]
+__all__ = ["numbers", "whole"]
 
 
 def numbers(count: int):
@@ -25,4 +25,21 @@ def numbers(count: int):
         return values
 
     parse.__name__ = f"{count} numbers"
+    return parse
+
+
+def whole(low: int, high: int):
+    """An argparse type for a whole number from ``low`` to ``high`` (a 5,000-digit number is refused, not echoed)."""
+
+    def parse(text: str):
+        text = text.strip()
+        digits = text[1:] if text[:1] in "+-" else text
+        if not digits.isdigit() or len(digits) > 19:
+            raise argparse.ArgumentTypeError(f"{text[:30]!r} is not a whole number from {low} to {high}")
+        value = int(text)
+        if not low <= value <= high:
+            raise argparse.ArgumentTypeError(f"{value} is out of range; give a whole number from {low} to {high}")
+        return value
+
+    parse.__name__ = "whole number"
     return parse

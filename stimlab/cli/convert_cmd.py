@@ -6,10 +6,12 @@ from ..colorimetry.display import DisplayModel
 from ..colorimetry.observers import OBSERVERS
 from ..colorimetry.stimulus import Background
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, load_profile, profile_warnings
+from .arguments import whole
 from .output import print_json
 
 
 def register(sub, numbers) -> None:
+
     convert = sub.add_parser("convert", help="convert one colour to device RGB and every other space")
     convert.add_argument("--display", required=True, metavar="PROFILE.json", help="display profile")
     convert.add_argument("--observer", choices=OBSERVERS, default="ss2", help="observer (default ss2)")
@@ -24,7 +26,7 @@ def register(sub, numbers) -> None:
                         help="DKL, pooled-cone-contrast normalisation")
     colour.add_argument("--rgb", type=numbers(3), metavar="r,g,b", help="linear RGB (0..1 above black)")
     colour.add_argument("--mb", type=numbers(3), metavar="l,s,cd", help="MacLeod–Boynton l, s and luminance")
-    convert.add_argument("--max-age-days", type=int, default=DEFAULT_MAX_AGE_DAYS,
+    convert.add_argument("--max-age-days", type=whole(0, 100_000), default=DEFAULT_MAX_AGE_DAYS,
                          help=f"warn when the profile is older than this (default {DEFAULT_MAX_AGE_DAYS})")
     convert.add_argument("--json", action="store_true", help="print one JSON object")
     convert.set_defaults(run=run)

@@ -26,9 +26,11 @@ from ..profiles.profile import (
     transfer_warnings,
 )
 from ..profiles.summary import display_summary
+from .arguments import whole
 
 
 def register(sub, numbers) -> None:
+
     display = sub.add_parser("display", help="build or inspect a display profile")
     actions = display.add_subparsers(dest="action", metavar="ACTION", required=True)
 
@@ -43,7 +45,7 @@ def register(sub, numbers) -> None:
     build.add_argument("--black", metavar="FILE.csv", help="black spectrum: wavelength_nm,black")
     build.add_argument("--black-xyY", metavar="x,y,Y", type=numbers(3),
                        help="CIE 1931 xyY of black, with --primaries-xyY")
-    build.add_argument("--bits", type=int, default=8, help="bits per channel (default 8)")
+    build.add_argument("--bits", type=whole(1, 16), default=8, help="bits per channel (default 8)")
     build.add_argument("--refresh", type=float, default=60.0, help="refresh rate in Hz (default 60)")
     build.add_argument("--size-cm", type=numbers(2), metavar="W,H", help="visible screen size in cm")
     build.add_argument("--size-px", type=numbers(2), metavar="W,H", help="screen size in pixels")
@@ -58,7 +60,7 @@ def register(sub, numbers) -> None:
     show = actions.add_parser("show", help="summarise a profile")
     show.add_argument("profile", metavar="PROFILE.json")
     show.add_argument("--observer", choices=OBSERVERS, default="ss2", help="observer (default ss2)")
-    show.add_argument("--max-age-days", type=int, default=DEFAULT_MAX_AGE_DAYS,
+    show.add_argument("--max-age-days", type=whole(0, 100_000), default=DEFAULT_MAX_AGE_DAYS,
                       help=f"warn when the profile is older than this (default {DEFAULT_MAX_AGE_DAYS})")
     show.set_defaults(run=run_show)
 

@@ -6,13 +6,14 @@ import json
 from pathlib import Path
 
 from ..errors import InputError
+from .arguments import whole
 
 
 def register(sub, numbers) -> None:
     from ..sessions.store import default_data_dir
 
     export = sub.add_parser("export", help="export a session: trials CSV, everything as JSON, BIDS events")
-    export.add_argument("session", type=int, metavar="SESSION", help="session number (from the Sessions page)")
+    export.add_argument("session", type=whole(1, 2**63 - 1), metavar="SESSION", help="session number (from the Sessions page)")
     export.add_argument("--format", choices=("csv", "json", "bids", "frames"), default="csv",
                         help="csv: one row per trial; json: everything; bids: *_events.tsv and its .json "
                              "sidecar; frames: the frame log (default csv)")

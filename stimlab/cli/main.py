@@ -40,6 +40,24 @@ def main(argv=None) -> int:
     args = parser.parse_args(argv)
     try:
         return int(args.run(args) or 0)
+    except BrokenPipeError:
+        # The reader stopped early (``stimlab convert --json | head``): not an error of ours. Python's own advice
+        # (signal docs, "Note on SIGPIPE"): point stdout at devnull so the flush at exit cannot raise again.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 0
+    except IsADirectoryError as error:
+        print(f"stimlab: error: {error.filename}: is a folder; give a file name (for -o/--output, the file to "
+              "write)", file=sys.stderr)
+        return 2
+    except PermissionError as error:
+        print(f"stimlab: error: {error.filename}: permission denied; choose a file you may read or write",
+              file=sys.stderr)
+        return 2
+    except OSError as error:
+        where = f"{error.filename}: " if error.filename else ""
+        print(f"stimlab: error: {where}{error.strerror or error}; check the path", file=sys.stderr)
+        return 2
     except InputError as error:
         print(f"stimlab: error: {error}", file=sys.stderr)
         return 2

@@ -12,6 +12,7 @@ from ..experiment.protocol import load_protocol
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, load_profile
 from ..sessions.observers import ADJUSTED_PREFIX, observer_for_protocol
 from ..sessions.store import Store, default_data_dir
+from .arguments import whole
 from .output import print_json
 
 HEADINGS = {"display": "Display", "gamut": "Gamut", "headroom": "Headroom", "bit_depth": "Bit depth",
@@ -22,9 +23,9 @@ HEADINGS = {"display": "Display", "gamut": "Gamut", "headroom": "Headroom", "bit
 def _common(parser) -> None:
     parser.add_argument("protocol", metavar="PROTOCOL.json")
     parser.add_argument("--display", required=True, metavar="PROFILE.json", help="display profile")
-    parser.add_argument("--participant", type=int, default=1,
+    parser.add_argument("--participant", type=whole(0, 1_000_000), default=1,
                         help="participant number for Latin-square counterbalancing (default 1)")
-    parser.add_argument("--seed", type=int, help="override the protocol's seed for trial order")
+    parser.add_argument("--seed", type=whole(0, 2**32 - 1), help="override the protocol's seed for trial order")
     parser.add_argument("--data", metavar="DIR",
                         help="the data folder of 'stimlab serve', for protocols whose observer is "
                              "adjusted:<participant> (default ~/.local/share/stimlab)")
@@ -33,7 +34,7 @@ def _common(parser) -> None:
 def register(sub, numbers) -> None:
     audit = sub.add_parser("audit", help="check every stimulus, phase and trial of a protocol on a display")
     _common(audit)
-    audit.add_argument("--max-age-days", type=int, default=DEFAULT_MAX_AGE_DAYS,
+    audit.add_argument("--max-age-days", type=whole(0, 100_000), default=DEFAULT_MAX_AGE_DAYS,
                        help=f"warn when the profile is older than this (default {DEFAULT_MAX_AGE_DAYS})")
     audit.add_argument("--all", action="store_true", help="also list the informational findings")
     audit.add_argument("--json", action="store_true", help="print the findings as JSON")

@@ -2,9 +2,11 @@
 
 from __future__ import annotations
 
+import secrets
 import sys
 from pathlib import Path
 
+from ..errors import InputError
 from ..version import __version__
 
 
@@ -27,22 +29,26 @@ def run(args) -> int:
     from ..web.server import serve
 
     if not 1 <= args.port <= 65535:
-        raise ValueError("--port must be 1–65535")
+        raise InputError(f"{args.port} is not a port; use 1–65535", field="--port")
     data = args.data or default_data_dir()
+    shown = f"[{args.host}]" if ":" in args.host else args.host
+    token = None
     if args.host not in ("127.0.0.1", "localhost", "::1"):
+        token = secrets.token_urlsafe(18)
         print("!" * 78, file=sys.stderr)
-        print(f"WARNING: binding {args.host} makes stimlab reachable from other computers. It has no login:\n"
-              "anyone who can reach this address can read and change displays, protocols and session data.\n"
-              "Use the default 127.0.0.1 unless this network is private to the lab.", file=sys.stderr)
+        print(f"Binding {args.host} makes stimlab reachable from other computers. Every browser must open this\n"
+              f"address once (it keeps the access token in a cookie):\n\n"
+              f"    http://{shown}:{args.port}/access?token={token}\n\n"
+              "Anyone with the token can read and change displays, protocols and session data; a new token is made\n"
+              "each time stimlab starts. Use the default 127.0.0.1 unless other computers need it.", file=sys.stderr)
         print("!" * 78, file=sys.stderr)
-    app = create_app(data, allowed_hosts={args.host})
+    app = create_app(data, allowed_hosts={args.host}, access_token=token)
     if args.demo:
         from ..profiles.demo import install_demo
 
         added = install_demo(app.extensions["stimlab.store"])
         if added:
             print(f"added demo data: {', '.join(added)}")
-    shown = f"[{args.host}]" if ":" in args.host else args.host
     print(f"stimlab {__version__}: data in {data}")
     print(f"open http://{shown}:{args.port}/ in a browser (Ctrl+C stops)")
     sys.stdout.flush()

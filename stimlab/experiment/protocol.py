@@ -16,6 +16,7 @@ import jsonschema
 
 from ..colorimetry.observers import OBSERVERS
 from ..errors import InputError
+from ..jsonio import check_value, loads
 
 __all__ = ["load_protocol", "parse_protocol", "validate_protocol", "protocol_schema", "json_path",
            "protocol_sha256", "CAUTION"]
@@ -82,12 +83,31 @@ def validate_protocol(data, name: str = "protocol") -> dict:
     InputError
         For the first problem, with ``field`` its JSON path.
     """
+    check_value(data, file=name)  # NaN, Infinity, lone surrogates and runaway nesting, before the schema
     errors = sorted(_validator().iter_errors(data), key=lambda e: (list(map(str, e.absolute_path)), e.message))
     if errors:
         error = _deepest(errors[0])
         raise InputError(_explain(error), file=name, field=json_path(error.absolute_path))
     _check_references(data, name)
     return data
+
+
+MAX_CONDITIONS = 1_000  # documented in protocols/README.md; real designs have tens
+MAX_TRIALS = 20_000  # about 11 hours at 2 s a trial
+
+
+def _check_size(data: dict, variables: dict, name: str) -> None:
+    """Designs a real study never reaches are refused before compiling, which would hold the audit for minutes."""
+    conditions = 1
+    for values in variables.values():
+        conditions *= max(1, len(values))
+    if conditions > MAX_CONDITIONS:
+        raise InputError(f"the variables make {conditions:,} conditions; at most {MAX_CONDITIONS:,} are allowed",
+                         file=name, field="conditions.variables")
+    trials = conditions * data["conditions"].get("repeats", 1)
+    if trials > MAX_TRIALS:
+        raise InputError(f"{trials:,} trials (conditions × repeats); at most {MAX_TRIALS:,} are allowed", file=name,
+                         field="conditions.repeats")
 
 
 def _check_references(data: dict, name: str) -> None:
@@ -99,6 +119,7 @@ def _check_references(data: dict, name: str) -> None:
         fail(f"unknown observer {observer!r}; use one of {', '.join(OBSERVERS)} or 'adjusted:<participant>'",
              "about", "observer")
     variables = data["conditions"].get("variables", {})
+    _check_size(data, variables, name)
     names = {}
     for i, stimulus in enumerate(data["stimuli"]):
         if stimulus["name"] in names:
@@ -227,12 +248,7 @@ def _check_response(response: dict, names: dict, variables: dict, fail, *path) -
 
 def parse_protocol(text: str, name: str = "protocol") -> dict:
     """Parse and validate protocol JSON text."""
-    try:
-        data = json.loads(text)
-    except json.JSONDecodeError as error:
-        raise InputError(f"not valid JSON: {error.msg} at line {error.lineno}, column {error.colno}",
-                         file=name) from None
-    return validate_protocol(data, name)
+    return validate_protocol(loads(text, file=name), name)
 
 
 def load_protocol(path) -> dict:

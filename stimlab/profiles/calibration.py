@@ -29,8 +29,12 @@ VALIDATION_RGB = ((0.5, 0.5, 0.5), (0.8, 0.3, 0.3), (0.3, 0.7, 0.35), (0.35, 0.4
 def measurement_plan(bits: int, levels_per_channel: int = 12) -> list[dict]:
     """The patches to measure, in order, each ``{"step", "kind", "device", "channel"?, "label"}``."""
     d_max = 2**bits - 1
-    if levels_per_channel < 3:
+    if isinstance(levels_per_channel, bool) or not isinstance(levels_per_channel, int) or levels_per_channel < 3:
         raise InputError("measure at least three levels per channel", field="levels_per_channel")
+    if levels_per_channel > 256:  # a technician measures 8–32; 256 already takes hours at the meter
+        raise InputError("measure at most 256 levels per channel", field="levels_per_channel")
+    if isinstance(bits, bool) or not isinstance(bits, int) or not 1 <= bits <= 16:
+        raise InputError("bits must be a whole number from 1 to 16", field="bits")
     levels = sorted({int(round(d_max * x)) for x in np.linspace(0, 1, levels_per_channel) ** 1.5} - {0})
     steps = []
 
@@ -73,9 +77,13 @@ def cross_validated_rms(x, y, model: str, sigma=None) -> float:
 
 
 def recommend_model(x, y, sigma=None) -> tuple[str, dict]:
-    """The model that best predicts levels it was not fitted to (leave-one-out), and every model's score."""
-    scores = {name: cross_validated_rms(x, y, name, sigma) for name in TRANSFER_MODELS}
-    return min(scores, key=scores.get), scores
+    """The model that best predicts levels it was not fitted to (leave-one-out), and every model's score.
+
+    A model that cannot be fitted to these readings (a table through falling readings) scores ``None``.
+    """
+    rms = {name: cross_validated_rms(x, y, name, sigma) for name in TRANSFER_MODELS}
+    best = min(rms, key=rms.get)
+    return best, {name: (value if np.isfinite(value) else None) for name, value in rms.items()}
 
 
 def _by_step(plan, readings):

@@ -99,6 +99,9 @@ def _spectral_table(text: str, name: str, columns: tuple[str, ...],
     columns = columns + tuple(c for c in optional if c in rows[0][1])
     wavelengths = np.array([_number(r["wavelength_nm"], name, n, "wavelength_nm") for n, r in rows])
     values = np.array([[_number(r[c], name, n, c, non_negative=True) for c in columns] for n, r in rows])
+    if len(rows) < 3:
+        raise InputError(f"{len(rows)} wavelength row(s); a spectrum needs the visible range (380–780 nm) in steps of "
+                         "1–5 nm", file=name, row=rows[-1][0] if rows else None, field="wavelength_nm")
     steps = np.diff(wavelengths)
     if np.any(steps <= 0):
         bad = int(np.flatnonzero(steps <= 0)[0])

@@ -18,7 +18,9 @@ import numpy as np
 
 from ..colorimetry.transfer import TRANSFER_MODELS, fit_transfer, reading_sigma
 from ..errors import InputError
+from ..jsonio import loads
 from .measurements import CHANNELS, falls
+from .validation import check_profile
 
 __all__ = [
     "FORMAT_VERSION",
@@ -245,14 +247,15 @@ def build_profile(name: str, *, transfer: dict, bits: int = 8, refresh_hz: float
         "notes": notes,
     }
     data["sha256"] = profile_hash(data)
-    return data
+    return check_profile(data, data["name"] or "profile")
 
 
 def profile_from_dict(data: dict, name: str = "profile") -> dict:
-    """Check a profile read from JSON: its format, its fields and its hash."""
+    """Check a profile read from JSON: its format, every field (:func:`check_profile`) and its hash."""
     if not isinstance(data, dict) or data.get("stimlab_display_profile") != FORMAT_VERSION:
         raise InputError(f"not a stimlab display profile (format {FORMAT_VERSION}); build one with "
                          "'stimlab display build'", file=name)
+    check_profile(data, name)
     for key in ("name", "bits", "refresh_hz", "primaries", "transfer", "sha256"):
         if key not in data:
             raise InputError(f"missing field {key!r}; rebuild the profile", file=name, field=key)
@@ -268,9 +271,9 @@ def load_profile(path) -> dict:
     if not path.is_file():
         raise InputError("display profile not found; check the path", file=str(path))
     try:
-        data = json.loads(path.read_text(encoding="utf-8"))
-    except (json.JSONDecodeError, UnicodeDecodeError) as error:
-        raise InputError(f"not valid JSON ({error}); rebuild the profile", file=str(path)) from None
+        data = loads(path.read_bytes(), file=str(path))
+    except OSError as error:
+        raise InputError(f"cannot read the file ({error.strerror})", file=str(path)) from None
     return profile_from_dict(data, str(path))
 
 

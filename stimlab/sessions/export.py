@@ -16,6 +16,7 @@ import numpy as np
 
 from ..colorimetry.spaces import LMS_to_DKL
 from ..version import __version__
+from .events import event_data
 from .frame_log import FRAME_COLUMNS, FrameBlock
 from .ingest import frame_blocks, iter_frames
 
@@ -28,7 +29,7 @@ DKL = ("lum", "lm", "s")
 
 
 def _events(db, session_id: int) -> list[dict]:
-    return [{"seq": r[0], "t": r[1], "kind": r[2], "trial": r[3], "phase": r[4], **json.loads(r[5])}
+    return [{"seq": r[0], "t": r[1], "kind": r[2], "trial": r[3], "phase": r[4], **event_data(r[5])}
             for r in db.execute("SELECT seq, t_ms, kind, trial, phase, data FROM events WHERE session_id = ? "
                                 "ORDER BY seq", (session_id,))]
 

@@ -8,16 +8,21 @@ never duplicates anything.
 from __future__ import annotations
 
 import datetime as dt
-import json
+import hashlib
 import sqlite3
 
-from ..errors import InputError
+from ..errors import ConflictError, InputError
+from ..jsonio import MAX_INT, check_value, dumps, loads
 from ..version import __version__
+from .events import event_rows
 from .frame_log import FrameBlock, read_block
 
-__all__ = ["create_session", "get_session", "ingest_batch", "frame_blocks", "iter_frames", "set_status", "progress"]
+__all__ = ["create_session", "get_session", "ingest_batch", "frame_blocks", "iter_frames", "set_status", "progress",
+           "take_lease", "release_lease", "LEASE_IDLE_S"]
 
 STATUSES = ("running", "interrupted", "complete")
+LEASE_IDLE_S = 6  # a runner posts a batch or a heartbeat every 1–2 s; one silent this long has closed or crashed
+RELEASED = "1970-01-01T00:00:00.000+00:00"  # seen_at of a lease its runner gave up (its page closed)
 
 
 def _now() -> str:
@@ -29,8 +34,8 @@ def create_session(db, *, protocol_file: str, protocol_sha256: str, display_id: 
     cursor = db.execute(
         "INSERT INTO sessions (protocol_file, protocol_sha256, display_id, participant, status, started_at, "
         "compiled, acknowledgement, software_version) VALUES (?, ?, ?, ?, 'running', ?, ?, ?, ?)",
-        (protocol_file, protocol_sha256, display_id, participant, _now(), json.dumps(compiled),
-         json.dumps(acknowledgement) if acknowledgement else None, __version__))
+        (protocol_file, protocol_sha256, display_id, participant, _now(), dumps(compiled),
+         dumps(acknowledgement) if acknowledgement else None, __version__))
     return cursor.lastrowid
 
 
@@ -39,9 +44,11 @@ def get_session(db, session_id: int) -> dict | None:
     if row is None:
         return None
     session = dict(row)
-    session["compiled"] = json.loads(session["compiled"])
-    session["checks"] = json.loads(session["checks"]) if session["checks"] else None
-    session["acknowledgement"] = json.loads(session["acknowledgement"]) if session["acknowledgement"] else None
+    where = f"sessions[{session_id}]"
+    session["compiled"] = loads(session["compiled"], field=f"{where}.compiled")
+    session["checks"] = loads(session["checks"], field=f"{where}.checks") if session["checks"] else None
+    session["acknowledgement"] = (loads(session["acknowledgement"], field=f"{where}.acknowledgement")
+                                  if session["acknowledgement"] else None)
     return session
 
 
@@ -54,22 +61,6 @@ def _field(record, key, kind, where, required=True):
     if not isinstance(value, kind) or isinstance(value, bool):
         raise InputError(f"{key} must be a {kind.__name__}", field=f"{where}.{key}")
     return value
-
-
-def _events(session_id: int, batch: dict) -> list[tuple]:
-    """Validated ``events`` rows of one batch; an InputError names the first bad field."""
-    events = batch.get("events") or []
-    if not isinstance(events, list):
-        raise InputError("events must be a list", field="events")
-    rows = []
-    for i, event in enumerate(events):
-        where = f"events[{i}]"
-        if not isinstance(event, dict):
-            raise InputError("each event must be an object", field=where)
-        rows.append((session_id, _field(event, "seq", int, where), _field(event, "t", float, where),
-                     _field(event, "kind", str, where), _field(event, "trial", int, where, False),
-                     _field(event, "phase", str, where, False), json.dumps(event.get("data") or {})))
-    return rows
 
 
 def frame_blocks(db, session_id: int):
@@ -85,44 +76,148 @@ def iter_frames(db, session_id: int):
         yield from block.rows()
 
 
-def ingest_batch(db, session_id: int, batch: dict) -> dict:
-    """Write one batch in one transaction; a batch already stored is acknowledged and ignored.
+def _digest(batch: dict) -> str:
+    return hashlib.sha256(dumps(batch, sort_keys=True, separators=(",", ":")).encode("utf-8")).hexdigest()
+
+
+def _duplicate_or_conflict(db, session_id: int, number: int, digest: str) -> dict:
+    stored = db.execute("SELECT digest FROM batches WHERE session_id = ? AND batch = ?", (session_id, number)).fetchone()
+    if stored[0] is not None and stored[0] != digest:
+        raise ConflictError(f"batch {number} is already stored with other content; a second runner may be writing "
+                            "to this session. Nothing was stored from this batch; keep it and reopen the runner",
+                            field="batch")
+    return {"batch": number, "duplicate": True}
+
+
+def _insert_events(db, rows: list[tuple]) -> int:
+    """Insert event rows; one already stored with the same content counts as a duplicate, with other content is
+    a conflict (the caller rolls the batch back)."""
+    duplicates = 0
+    for i, row in enumerate(rows):
+        try:
+            db.execute("INSERT INTO events VALUES (?, ?, ?, ?, ?, ?, ?)", row)
+        except sqlite3.IntegrityError:
+            stored = db.execute("SELECT session_id, seq, t_ms, kind, trial, phase, data FROM events "
+                                "WHERE session_id = ? AND seq = ?", row[:2]).fetchone()
+            if stored is None or tuple(stored) != row:
+                raise ConflictError(f"event {row[1]} is already stored with other content; nothing was stored from "
+                                    "this batch", field=f"events[{i}].seq") from None
+            duplicates += 1
+    return duplicates
+
+
+def ingest_batch(db, session_id: int, batch: dict, *, runner: str | None = None) -> dict:
+    """Write one batch in one transaction, after checking every field of it.
 
     A batch is ``{"batch": n, "events": [...], "frames": {...}}``; ``frames`` is a frame block in the packed or
-    the list form of :mod:`stimlab.sessions.frame_log`, stored as one binary value.
+    the list form of :mod:`stimlab.sessions.frame_log`, stored as one binary value. A batch number already
+    stored with the same content is acknowledged as a duplicate; with other content (or events or frames that
+    clash with stored ones) it is refused with :class:`~stimlab.errors.ConflictError` and nothing is stored.
+    ``runner`` is the sending runner's lease (see :func:`take_lease`); a runner that no longer holds it is refused.
     """
     if not isinstance(batch, dict):
         raise InputError("a batch must be a JSON object", field="batch")
+    check_value(batch, "")
     number = _field(batch, "batch", int, "batch")
-    events = _events(session_id, batch)
+    if not 0 <= number <= MAX_INT:
+        raise InputError("batch numbers start at 0", field="batch")
+    events = event_rows(session_id, batch.get("events"))
     frames = read_block(batch["frames"]) if batch.get("frames") else None
     count = len(frames) if frames else 0
+    digest = _digest(batch)
     db.execute("BEGIN IMMEDIATE")
     try:
+        if runner is not None:
+            _check_lease(db, session_id, runner)
         try:  # the batch's number is its key: a second copy stops here
-            db.execute("INSERT INTO batches VALUES (?, ?, ?, ?, ?)", (session_id, number, _now(), len(events), count))
+            db.execute("INSERT INTO batches (session_id, batch, received_at, events, frames, digest) "
+                       "VALUES (?, ?, ?, ?, ?, ?)", (session_id, number, _now(), len(events), count, digest))
         except sqlite3.IntegrityError:
+            result = _duplicate_or_conflict(db, session_id, number, digest)
             db.execute("ROLLBACK")
-            return {"batch": number, "duplicate": True}
-        db.executemany("INSERT OR IGNORE INTO events VALUES (?, ?, ?, ?, ?, ?, ?)", events)
+            return result
+        duplicates = _insert_events(db, events)
         if frames:
+            overlap = db.execute("SELECT batch FROM frames WHERE session_id = ? AND first_frame <= ? AND last_frame >= ? "
+                                 "LIMIT 1", (session_id, frames.last_frame, frames.first_frame)).fetchone()
+            if overlap is not None:
+                raise ConflictError(f"frames {frames.first_frame}–{frames.last_frame} overlap frames already stored "
+                                    f"from batch {overlap[0]}; nothing was stored from this batch", field="frames")
             db.execute("INSERT INTO frames VALUES (?, ?, ?, ?, ?, ?, ?)",
                        (session_id, number, frames.first_frame, frames.last_frame, count, frames.dropped,
                         frames.stored()))
-        for event in batch.get("events") or []:
-            if event.get("kind") == "session_end":
+        for row in events:
+            kind = row[3]
+            if kind == "session_end":
                 db.execute("UPDATE sessions SET status = 'complete', ended_at = ? WHERE id = ?", (_now(), session_id))
-            elif event.get("kind") in ("page_hidden", "paused"):
+            elif kind in ("page_hidden", "paused"):
                 db.execute("UPDATE sessions SET status = 'interrupted' WHERE id = ? AND status = 'running'",
                            (session_id,))
-            elif event.get("kind") in ("resumed", "session_start"):
+            elif kind in ("resumed", "session_start"):
                 db.execute("UPDATE sessions SET status = 'running' WHERE id = ? AND status = 'interrupted'",
                            (session_id,))
         db.execute("COMMIT")
-    except Exception:
+    except BaseException:
         db.execute("ROLLBACK")
         raise
-    return {"batch": number, "duplicate": False, "events": len(events), "frames": count}
+    result = {"batch": number, "duplicate": False, "events": len(events) - duplicates, "frames": count}
+    if duplicates:
+        result["duplicate_events"] = duplicates
+    return result
+
+
+def _check_lease(db, session_id: int, runner: str) -> None:
+    row = db.execute("SELECT holder FROM runner_leases WHERE session_id = ?", (session_id,)).fetchone()
+    if row is None:
+        db.execute("INSERT INTO runner_leases VALUES (?, ?, ?, ?)", (session_id, runner, _now(), _now()))
+    elif row[0] != runner:
+        raise ConflictError("this session was taken over by another tab or window; this one has stopped and keeps "
+                            "what it has not sent until it can hand it over", field="runner")
+    else:  # a released lease stays released: the closing page's last batches must not hold the session
+        db.execute("UPDATE runner_leases SET seen_at = ? WHERE session_id = ? AND seen_at != ?",
+                   (_now(), session_id, RELEASED))
+
+
+def release_lease(db, session_id: int, runner: str) -> dict:
+    """The runner's page is closing: let the next runner take the session at once."""
+    db.execute("UPDATE runner_leases SET seen_at = ? WHERE session_id = ? AND holder = ?", (RELEASED, session_id, runner))
+    return {"runner": runner, "released": True}
+
+
+def take_lease(db, session_id: int, runner: str, *, take_over: bool = False) -> dict:
+    """Make ``runner`` the session's one active runner.
+
+    A runner takes the lease on start or resume. Another runner that still holds it (it posted within
+    :data:`LEASE_IDLE_S` seconds) keeps it unless ``take_over`` is set; then the other one is refused on its next
+    batch and stops.
+
+    Returns
+    -------
+    ``{"runner", "taken_over"}``; raises :class:`~stimlab.errors.ConflictError` (field ``runner``) when the
+    session is open elsewhere.
+    """
+    if not isinstance(runner, str) or not 8 <= len(runner) <= 64 or not runner.isascii():
+        raise InputError("runner must be the 8–64 character id the runner page made", field="runner")
+    if not isinstance(take_over, bool):
+        raise InputError("take_over must be true or false", field="take_over")
+    db.execute("BEGIN IMMEDIATE")
+    try:
+        row = db.execute("SELECT holder, seen_at FROM runner_leases WHERE session_id = ?", (session_id,)).fetchone()
+        idle = row is not None and (dt.datetime.now(dt.timezone.utc) - dt.datetime.fromisoformat(row[1])
+                                    ).total_seconds() > LEASE_IDLE_S
+        if row is not None and row[0] != runner and not take_over and not idle:
+            raise ConflictError(f"this session is open in another tab or window (active at {row[1][11:19]} UTC). "
+                                "Close that one, or take the session over here: the other one then stops presenting "
+                                "and keeps what it has not sent", field="runner")
+        if row is not None and row[0] == runner:  # the holder's heartbeat
+            db.execute("UPDATE runner_leases SET seen_at = ? WHERE session_id = ?", (_now(), session_id))
+        else:
+            db.execute("INSERT OR REPLACE INTO runner_leases VALUES (?, ?, ?, ?)", (session_id, runner, _now(), _now()))
+        db.execute("COMMIT")
+    except BaseException:
+        db.execute("ROLLBACK")
+        raise
+    return {"runner": runner, "taken_over": row is not None and row[0] != runner}
 
 
 def set_status(db, session_id: int, status: str) -> None:
@@ -139,7 +234,7 @@ def progress(db, session_id: int) -> dict:
     last_frame = db.execute("SELECT MAX(last_frame) FROM frames WHERE session_id = ?", (session_id,)).fetchone()[0]
     last_seq = db.execute("SELECT MAX(seq) FROM events WHERE session_id = ?", (session_id,)).fetchone()[0]
     last_batch = db.execute("SELECT MAX(batch) FROM batches WHERE session_id = ?", (session_id,)).fetchone()[0]
-    staircase = [json.loads(row[0]) for row in db.execute(
+    staircase = [loads(row[0]) for row in db.execute(
         "SELECT data FROM events WHERE session_id = ? AND kind = 'staircase' ORDER BY seq", (session_id,))]
     return {"completed_trials": done, "last_frame": last_frame, "last_seq": last_seq, "last_batch": last_batch,
             "staircase": staircase[-1] if staircase else None}

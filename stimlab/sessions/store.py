@@ -21,6 +21,7 @@ from pathlib import Path
 
 from ..errors import ConflictError, InputError
 from ..experiment.protocol import parse_protocol
+from ..jsonio import check_value, dumps, loads
 from ..profiles.profile import profile_from_dict
 
 __all__ = ["Store", "MIGRATIONS", "default_data_dir", "safe_protocol_name"]
@@ -135,6 +136,16 @@ MIGRATIONS = [
     ) WITHOUT ROWID;
     """,
     _pack_frame_bodies,
+    """
+    ALTER TABLE batches ADD COLUMN digest TEXT;
+    ALTER TABLE displays ADD COLUMN archived_at TEXT;
+    CREATE TABLE runner_leases (
+        session_id INTEGER PRIMARY KEY REFERENCES sessions(id),
+        holder TEXT NOT NULL,
+        taken_at TEXT NOT NULL,
+        seen_at TEXT NOT NULL
+    );
+    """,
 ]
 
 
@@ -163,20 +174,29 @@ def _now() -> str:
 
 
 class Store:
-    """The data folder. Open one connection per request with :meth:`connect`."""
+    """The data folder. Web requests use one long-lived connection per server thread (:meth:`request_connection`)."""
 
     def __init__(self, root):
         self.root = Path(root)
         self.protocols = self.root / "protocols"
-        self.protocols.mkdir(parents=True, exist_ok=True)
         self.database = self.root / "stimlab.sqlite"
-        self._local = threading.local()
-        db = self.connect()
         try:
-            db.execute("PRAGMA journal_mode=WAL")
-            self.migrate(db)
-        finally:
-            db.close()
+            self.protocols.mkdir(parents=True, exist_ok=True)
+        except OSError as error:
+            raise InputError(f"cannot use this data folder ({error.strerror}); choose a folder you can write to",
+                             file=str(self.root), field="--data") from None
+        self._local = threading.local()
+        try:
+            db = self.connect()
+            try:
+                db.execute("PRAGMA journal_mode=WAL")
+                self.migrate(db)
+            finally:
+                db.close()
+        except sqlite3.DatabaseError as error:
+            raise InputError(f"the database cannot be opened ({error}): it is not a stimlab database or it is damaged; "
+                             "restore it from a backup or choose another data folder", file=str(self.database),
+                             field="--data") from None
 
     def request_connection(self) -> sqlite3.Connection:
         """This thread's long-lived connection, for web requests.
@@ -218,29 +238,49 @@ class Store:
 
     # -- displays -----------------------------------------------------------------------------------------------
     def add_display(self, db, profile: dict) -> int:
+        """Store a profile checked completely first (:func:`~stimlab.profiles.profile.profile_from_dict`), in one
+        transaction; a profile already stored gives its existing number (and is un-archived)."""
         profile = profile_from_dict(profile, "profile")
-        existing = db.execute("SELECT id FROM displays WHERE sha256 = ?", (profile["sha256"],)).fetchone()
-        if existing:
-            return existing["id"]
-        version = db.execute("SELECT COALESCE(MAX(version), 0) + 1 FROM displays WHERE name = ?",
-                             (profile["name"],)).fetchone()[0]
-        cursor = db.execute("INSERT INTO displays (name, version, sha256, profile, created_at) VALUES (?, ?, ?, ?, ?)",
-                            (profile["name"], version, profile["sha256"], json.dumps(profile), _now()))
-        return cursor.lastrowid
+        text = dumps(profile)
+        db.execute("BEGIN IMMEDIATE")
+        try:
+            existing = db.execute("SELECT id FROM displays WHERE sha256 = ?", (profile["sha256"],)).fetchone()
+            if existing:
+                db.execute("UPDATE displays SET archived_at = NULL WHERE id = ?", (existing["id"],))
+                display_id = existing["id"]
+            else:
+                version = db.execute("SELECT COALESCE(MAX(version), 0) + 1 FROM displays WHERE name = ?",
+                                     (profile["name"],)).fetchone()[0]
+                display_id = db.execute(
+                    "INSERT INTO displays (name, version, sha256, profile, created_at) VALUES (?, ?, ?, ?, ?)",
+                    (profile["name"], version, profile["sha256"], text, _now())).lastrowid
+            db.execute("COMMIT")
+        except BaseException:
+            db.execute("ROLLBACK")
+            raise
+        return display_id
 
-    def displays(self, db) -> list[dict]:
-        rows = db.execute("SELECT id, name, version, sha256, created_at, profile FROM displays ORDER BY id DESC")
+    def displays(self, db, *, archived: bool = False) -> list[dict]:
+        """Displays, newest first: the active ones, or with ``archived=True`` only the archived ones."""
+        rows = db.execute("SELECT id, name, version, sha256, created_at, archived_at, profile FROM displays WHERE "
+                          f"archived_at IS {'NOT ' if archived else ''}NULL ORDER BY id DESC")
         return [self._display(row) for row in rows]
 
     def display(self, db, display_id: int) -> dict | None:
-        row = db.execute("SELECT id, name, version, sha256, created_at, profile FROM displays WHERE id = ?",
-                         (display_id,)).fetchone()
+        """One display by number, archived or not (old sessions keep reading theirs)."""
+        row = db.execute("SELECT id, name, version, sha256, created_at, archived_at, profile FROM displays "
+                         "WHERE id = ?", (display_id,)).fetchone()
         return self._display(row) if row else None
+
+    def archive_display(self, db, display_id: int, archived: bool = True) -> None:
+        """Hide a display from lists and defaults (or show it again); its profile stays for the sessions run on it."""
+        db.execute("UPDATE displays SET archived_at = ? WHERE id = ?", (_now() if archived else None, display_id))
 
     @staticmethod
     def _display(row) -> dict:
         return {"id": row["id"], "name": row["name"], "version": row["version"], "sha256": row["sha256"],
-                "created_at": row["created_at"], "profile": json.loads(row["profile"])}
+                "created_at": row["created_at"], "archived_at": row["archived_at"],
+                "profile": loads(row["profile"], field=f"displays[{row['id']}].profile")}
 
     # -- protocols ----------------------------------------------------------------------------------------------
     def protocol_names(self) -> list[str]:
@@ -251,7 +291,11 @@ class Store:
         path = self.protocols / safe_protocol_name(name)
         if not path.is_file():
             raise FileNotFoundError(name)
-        text = path.read_text(encoding="utf-8")
+        try:
+            text = path.read_bytes().decode("utf-8-sig")
+        except UnicodeDecodeError as error:
+            text = path.read_bytes().decode("utf-8", errors="replace")
+            return text, None, InputError(f"not UTF-8 text (byte {error.start}); save it as UTF-8", file=path.name)
         try:
             return text, parse_protocol(text, path.name), None
         except InputError as error:
@@ -270,11 +314,15 @@ class Store:
             if base_sha256 != current:
                 raise ConflictError("the protocol file changed on disk since you opened it; reload it (your edits are "
                                     "still in this page) and apply them again", file=name)
-        text = json.dumps(protocol, indent=2, ensure_ascii=False) + "\n"
+        check_value(protocol, file=name)  # before any file is opened: a lone surrogate must not leave a stub
+        text = dumps(protocol, indent=2, ensure_ascii=False) + "\n"
         parse_protocol(text, name)
         temporary = path.with_suffix(".json.saving")
-        temporary.write_text(text, encoding="utf-8")
-        os.replace(temporary, path)
+        try:
+            temporary.write_bytes(text.encode("utf-8"))
+            os.replace(temporary, path)
+        finally:
+            temporary.unlink(missing_ok=True)
         return text_sha256(text)
 
     # -- observer adjustments -----------------------------------------------------------------------------------
@@ -290,7 +338,7 @@ class Store:
     def latest_adjustment(self, db, participant: str) -> dict | None:
         row = db.execute("SELECT * FROM observer_adjustments WHERE participant = ? ORDER BY id DESC LIMIT 1",
                          (participant,)).fetchone()
-        return {**dict(row), "summary": json.loads(row["summary"])} if row else None
+        return {**dict(row), "summary": loads(row["summary"], field="summary")} if row else None
 
     # -- sessions -----------------------------------------------------------------------------------------------
     def sessions(self, db, protocol: str | None = None, participant: str | None = None,

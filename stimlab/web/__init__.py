@@ -10,7 +10,8 @@ from ..assets import asset_folder
 from ..sessions.store import Store
 from ..version import __version__
 from .errors import register_error_handlers
-from .security import install_guards
+from .security import install_access_token, install_guards
+from .strict import BoundedInt, StrictJSONProvider
 
 __all__ = ["create_app", "MAX_UPLOAD_BYTES"]
 
@@ -32,7 +33,12 @@ def _secret(store: Store) -> str:
     return path.read_text().strip()
 
 
-def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool = False) -> Flask:
+class _App(Flask):
+    json_provider_class = StrictJSONProvider
+
+
+def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool = False,
+               access_token: str | None = None) -> Flask:
     """Build the app on a data folder (created if missing).
 
     Parameters
@@ -41,10 +47,14 @@ def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool
         Folder for the SQLite database and the protocol files.
     allowed_hosts
         Host names accepted besides the loopback names (the address given to ``--host``).
+    access_token
+        When set, every request must carry it (see :func:`~stimlab.web.security.install_access_token`); ``stimlab
+        serve`` sets one whenever it listens beyond loopback.
     """
     store = Store(data_dir)
-    app = Flask("stimlab", template_folder=str(asset_folder("templates")),
+    app = _App("stimlab", template_folder=str(asset_folder("templates")),
                 static_folder=str(asset_folder("static")))
+    app.url_map.converters["int"] = BoundedInt
     app.config.update(SECRET_KEY=_secret(store), MAX_CONTENT_LENGTH=MAX_UPLOAD_BYTES, TESTING=testing,
                       SESSION_COOKIE_SAMESITE="Strict", SESSION_COOKIE_HTTPONLY=True,
                       TEMPLATES_AUTO_RELOAD=False)
@@ -56,6 +66,8 @@ def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool
     from ..experiment.protocol import enum_for
 
     app.jinja_env.globals.update(version=__version__, enum_for=enum_for)
+    if access_token:
+        install_access_token(app, access_token)
     install_guards(app, allowed_hosts or set())
     register_error_handlers(app)
 

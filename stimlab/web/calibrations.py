@@ -22,6 +22,7 @@ from ..profiles.measurements import parse_spectra
 from . import current_store
 from .displays import _number, _pair
 from .errors import NotFound, WebError
+from .strict import whole_number
 
 blueprint = Blueprint("calibrations", __name__)
 
@@ -60,7 +61,7 @@ def _pair_signed(text: str, field: str) -> list[int]:
 def new():
     display = None
     if request.args.get("display"):
-        display = current_store().display(g.db, int(request.args["display"]))
+        display = current_store().display(g.db, whole_number(request.args["display"], "display"))
     return render_template("calibration_new.html", display=display and display["profile"], error=None)
 
 

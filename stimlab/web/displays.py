@@ -17,6 +17,7 @@ from ..profiles.summary import display_summary
 from . import current_store
 from .errors import NotFound, WebError
 from .plots import dkl_plane_plot, macleod_boynton_plot, transfer_plot
+from .strict import whole_number
 
 blueprint = Blueprint("displays", __name__)
 
@@ -98,10 +99,21 @@ def _text(upload, field: str) -> str:
                          field=field) from None
 
 
+def _summarised(displays: list[dict]) -> list[dict]:
+    """Displays with their summary; one stored before profiles were checked completely and that cannot be
+    summarised is left out (archive it through the API) rather than breaking the whole list."""
+    result = []
+    for display in displays:
+        try:
+            result.append({**display, "summary": display_summary(display["profile"])})
+        except Exception:  # noqa: BLE001 - an old unchecked profile must not take the list down
+            continue
+    return result
+
+
 @blueprint.get("/displays")
 def index():
-    displays = current_store().displays(g.db)
-    return render_template("displays.html", displays=[{**d, "summary": display_summary(d["profile"])} for d in displays])
+    return render_template("displays.html", displays=_summarised(current_store().displays(g.db)))
 
 
 @blueprint.get("/displays/new")
@@ -137,8 +149,24 @@ def show(display_id: int):
 # -- API ------------------------------------------------------------------------------------------------------
 @blueprint.get("/api/displays")
 def api_index():
-    return {"displays": [{k: v for k, v in d.items() if k != "profile"} | {"summary": display_summary(d["profile"])}
-                         for d in current_store().displays(g.db)]}
+    archived = request.args.get("archived") in ("1", "true", "yes")
+    return {"displays": [{k: v for k, v in d.items() if k != "profile"}
+                         for d in _summarised(current_store().displays(g.db, archived=archived))]}
+
+
+@blueprint.post("/api/displays/<int:display_id>/archive")
+def api_archive(display_id: int):
+    """Hide a display from lists and defaults; sessions run on it still read its profile."""
+    _get(display_id)
+    current_store().archive_display(g.db, display_id, True)
+    return api_show(display_id)
+
+
+@blueprint.post("/api/displays/<int:display_id>/unarchive")
+def api_unarchive(display_id: int):
+    _get(display_id)
+    current_store().archive_display(g.db, display_id, False)
+    return api_show(display_id)
 
 
 @blueprint.get("/api/displays/<int:display_id>")
@@ -166,9 +194,6 @@ def api_create():
 def default_display_id(requested=None) -> int | None:
     """The display to audit against: the one asked for, else the most recently added."""
     if requested not in (None, ""):
-        try:
-            return _get(int(requested))["id"]
-        except ValueError:
-            raise WebError(f"display must be a number, got {requested!r}", field="display") from None
+        return _get(whole_number(requested, "display", minimum=1))["id"]
     displays = current_store().displays(g.db)
     return displays[0]["id"] if displays else None

@@ -13,12 +13,13 @@ from werkzeug.exceptions import HTTPException
 
 from ..errors import ConflictError, InputError, NotFoundError
 
-__all__ = ["NotFound", "WebError", "error_body", "register_error_handlers"]
+__all__ = ["BodyError", "NotFound", "WebError", "error_body", "register_error_handlers"]
 
 log = logging.getLogger("stimlab.web")
 
 PLAIN = {
     400: ("Bad request", "The request could not be read; check the form and try again."),
+    401: ("Access token needed", "Open the address that 'stimlab serve' printed when it started."),
     403: ("Forbidden", "This request was refused."),
     404: ("Not found", "There is nothing at this address; check the link or go back to the list."),
     405: ("Method not allowed", "This address does not accept that kind of request."),
@@ -50,6 +51,16 @@ class WebError(Exception):
         return cls(str(error), "Invalid input", 400, field=error.field, file=error.file, row=error.row)
 
 
+class BodyError(Exception):
+    """A request body that strict JSON refuses (:mod:`stimlab.web.strict`); carries the InputError that says why.
+
+    Not a ValueError, so that ``get_json(silent=True)`` cannot swallow it."""
+
+    def __init__(self, error: InputError):
+        super().__init__(str(error))
+        self.error = error
+
+
 class NotFound(WebError):
     """Nothing at this address: a 404 with the message saying what was looked for and where to find it."""
 
@@ -76,6 +87,15 @@ def register_error_handlers(app: Flask) -> None:
     @app.errorhandler(InputError)
     def input_error(error):
         return _respond(WebError.from_input(error))
+
+    @app.errorhandler(BodyError)
+    def body_error(error):
+        return _respond(WebError.from_input(error.error))
+
+    @app.errorhandler(RecursionError)
+    def too_deep(error):
+        return _respond(WebError("the request is nested too deeply to read; send a flatter document", status=400,
+                                 field="body"))
 
     @app.errorhandler(HTTPException)
     def http_error(error):

@@ -17,6 +17,7 @@ from .errors import NotFound, WebError
 from .plots import dkl_plane_plot, frame_preview
 
 blueprint = Blueprint("protocols", __name__)
+AUDIT_CACHE_BYTES = 64 * 1024 * 1024  # compiled protocols kept for the live audit, at most
 
 
 def _read(name: str):
@@ -39,9 +40,13 @@ def run_audit(protocol: dict, display_id: int, participant: int = 1) -> tuple[di
     key = (protocol_sha256(protocol), display["sha256"], participant, adjustment_id)
     if key not in cache:
         compiled = compile_protocol(protocol, display["profile"], participant=participant, obs=obs)
-        if len(cache) > 64:
+        entry = (audit_protocol(compiled, protocol, display["profile"]), compiled)
+        size = len(str(compiled.data)) + len(str(entry[0]))  # a rough byte count, far cheaper than the compile
+        sizes = current_app.extensions.setdefault("stimlab.audit_cache_bytes", {})
+        if len(cache) >= 64 or sum(sizes.values()) + size > AUDIT_CACHE_BYTES:
             cache.clear()
-        cache[key] = (audit_protocol(compiled, protocol, display["profile"]), compiled)
+            sizes.clear()
+        cache[key], sizes[key] = entry, size
     return cache[key]
 
 

@@ -3,7 +3,6 @@ serve the runner page cross-origin isolated, and take its checks and log batches
 
 from __future__ import annotations
 
-import json
 import re
 
 from flask import (
@@ -18,7 +17,8 @@ from flask import (
 
 from ..errors import InputError
 from ..experiment.protocol import CAUTION
-from ..sessions.ingest import create_session, ingest_batch, progress
+from ..jsonio import dumps, loads
+from ..sessions.ingest import create_session, ingest_batch, progress, release_lease, take_lease
 from . import current_store
 from .displays import _get as get_display
 from .displays import default_display_id
@@ -27,13 +27,18 @@ from .protocols import _read as read_protocol
 from .protocols import run_audit
 from .security import runner_writes
 from .sessions import session_or_404 as _session
+from .strict import whole_number
+
+RUNNER_HEADER = "X-Runner-Id"
 
 blueprint = Blueprint("runs", __name__)
 
 PARTICIPANT = re.compile(r"^[A-Za-z0-9_-]{1,32}$")
 
 
-def _participant(code: str) -> str:
+def _participant(code) -> str:
+    if code is not None and not isinstance(code, str):
+        raise InputError("the participant code must be text such as 'P07'", field="participant")
     code = (code or "").strip()
     if not PARTICIPANT.match(code):
         raise InputError("use a pseudonymous code of letters, digits, '-' or '_' (at most 32), never a name",
@@ -69,14 +74,15 @@ def start_page():
 
 def start_session(name: str, display_id, participant: str, ack: dict | None) -> int:
     """Compile, audit and store a new session; refuse a failing audit unless only flashes fail and are acknowledged."""
+    if not isinstance(name, str) or not name:
+        raise WebError("protocol must be the name of a protocol file, such as 'afterimage_null.json'", field="protocol")
     _, protocol, error = read_protocol(name)
     if error:
         raise WebError.from_input(error)
-    try:
-        display = get_display(int(display_id or 0))
-    except ValueError:
-        raise WebError(f"display must be a number, got {display_id!r}", field="display") from None
+    display = get_display(whole_number(display_id, "display", minimum=1))
     participant = _participant(participant)
+    if ack is not None:
+        ack = acknowledgement_from(ack)
     report, compiled = run_audit(protocol, display["id"], participant=_participant_number(participant))
     state = gate(report)
     if state["blocked"]:
@@ -84,20 +90,40 @@ def start_session(name: str, display_id, participant: str, ack: dict | None) -> 
                        + ". Fix the protocol before running it.", "Audit failed", 409, field="protocol")
     acknowledgement = None
     if state["needs_acknowledgement"]:
-        ack = ack or {}
-        reference = str(ack.get("ethics_reference", "")).strip()
-        if not ack.get("accepted") or not reference:
+        ack = acknowledgement_from(ack)
+        reference = ack["ethics_reference"]
+        if not ack["accepted"] or not reference:
             raise WebError("this protocol exceeds the WCAG 2.2 flash thresholds: record that you accept it and the "
                            "ethics approval reference that covers it", "Acknowledgement needed", 409,
                            field="acknowledgement")
         acknowledgement = {"accepted": True, "ethics_reference": reference,
-                           "experimenter": str(ack.get("experimenter", "")).strip(),
+                           "experimenter": ack["experimenter"],
                            "findings": [f["message"] for f in state["flashing"]], "caution": CAUTION}
     data = dict(compiled.data, audit={"passed": report["passed"], "counts": report["counts"],
                                       "caution": report["caution"]})
     return create_session(g.db, protocol_file=name, protocol_sha256=compiled.data["protocol"]["sha256"],
                           display_id=display["id"], participant=participant, compiled=data,
                           acknowledgement=acknowledgement)
+
+
+def acknowledgement_from(ack) -> dict:
+    """A photosensitivity acknowledgement with strict types: ``accepted`` true or false (never ``"false"``), the
+    ethics reference and experimenter as text."""
+    if ack is None:
+        ack = {}
+    if not isinstance(ack, dict):
+        raise WebError("acknowledgement must be an object {accepted, ethics_reference, experimenter}",
+                       field="acknowledgement")
+    accepted = ack.get("accepted", False)
+    if not isinstance(accepted, bool):
+        raise WebError("accepted must be true or false (not text or a number)", field="acknowledgement.accepted")
+    fields = {}
+    for key in ("ethics_reference", "experimenter"):
+        value = ack.get(key)
+        if value is not None and (not isinstance(value, str) or len(value) > 200):
+            raise WebError(f"{key} must be text of at most 200 characters", field=f"acknowledgement.{key}")
+        fields[key] = (value or "").strip()
+    return {"accepted": accepted, **fields}
 
 
 @blueprint.post("/run")
@@ -122,7 +148,7 @@ def api_create():
 def _participant_number(code: str) -> int:
     """Latin-square row: the number in a code like 'P07', else 1."""
     digits = re.findall(r"\d+", code)
-    return int(digits[-1]) if digits else 1
+    return int(digits[-1][-6:]) if digits else 1
 
 
 @blueprint.get("/run/<int:session_id>")
@@ -151,7 +177,7 @@ def api_checks(session_id: int):
     body = request.get_json(silent=True)
     if not isinstance(body, dict):
         raise WebError("send the check results as a JSON object", field="body")
-    g.db.execute("UPDATE sessions SET checks = ? WHERE id = ?", (json.dumps(body), session_id))
+    g.db.execute("UPDATE sessions SET checks = ? WHERE id = ?", (dumps(body), session_id))
     return {"saved": True}
 
 
@@ -162,9 +188,24 @@ def api_batch(session_id: int):
     if row is None:
         raise NotFound(f"there is no session {session_id}")
     if row["status"] == "complete":
-        raise WebError("this session is complete; it takes no more log batches", "Conflict", 409)
-    try:
-        body = json.loads(request.get_data(as_text=True))
-    except ValueError:
-        raise WebError("the batch is not valid JSON", field="batch") from None
-    return ingest_batch(g.db, session_id, body)
+        raise WebError("this session is complete; it takes no more log batches", "Conflict", 409, field="status")
+    body = loads(request.get_data(), field="batch")
+    runner = request.headers.get(RUNNER_HEADER)
+    if runner is not None and not 8 <= len(runner) <= 64:
+        raise WebError("the runner id must be 8–64 characters", field=RUNNER_HEADER)
+    return ingest_batch(g.db, session_id, body, runner=runner)
+
+
+@blueprint.post("/api/sessions/<int:session_id>/lease")
+@runner_writes
+def api_lease(session_id: int):
+    """The runner page takes the session on start or resume; 409 (field ``runner``) when it is open elsewhere."""
+    row = g.db.execute("SELECT status FROM sessions WHERE id = ?", (session_id,)).fetchone()
+    if row is None:
+        raise NotFound(f"there is no session {session_id}")
+    body = request.get_json(silent=True)
+    if not isinstance(body, dict):
+        raise WebError("send {\"runner\": id, \"take_over\": false}", field="body")
+    if body.get("release") is True:
+        return release_lease(g.db, session_id, str(body.get("runner")))
+    return take_lease(g.db, session_id, body.get("runner"), take_over=body.get("take_over", False))

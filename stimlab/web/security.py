@@ -18,11 +18,14 @@ from flask.sessions import SecureCookieSessionInterface
 
 from .errors import WebError
 
-__all__ = ["install_guards", "csrf_token", "run_token", "runner_writes", "RUN_TOKEN_HEADER", "LOOPBACK_NAMES"]
+__all__ = ["install_guards", "install_access_token", "ACCESS_COOKIE",
+           "csrf_token", "run_token", "runner_writes", "RUN_TOKEN_HEADER", "LOOPBACK_NAMES"]
 
 LOOPBACK_NAMES = {"127.0.0.1", "localhost", "::1"}
 SAFE_METHODS = {"GET", "HEAD", "OPTIONS"}
 RUN_TOKEN_HEADER = "X-Run-Token"
+ACCESS_COOKIE = "stimlab_access"
+ACCESS_HEADER = "X-Access-Token"
 
 
 def _hostname(host: str) -> str:
@@ -98,3 +101,33 @@ def install_guards(app: Flask, allowed_hosts: set[str]) -> None:
                            403, field="csrf_token")
 
     app.jinja_env.globals.update(csrf_token=csrf_token, run_token=run_token)
+
+
+def install_access_token(app: Flask, token: str) -> None:
+    """Require ``token`` on every request: bound beyond loopback, a Host header proves nothing.
+
+    A person opens ``/access?token=…`` once (the address ``stimlab serve`` prints); the token is then kept in an
+    HttpOnly cookie. Scripts send it in ``X-Access-Token``.
+    """
+    from flask import redirect
+
+    expected = token.encode()
+
+    def holds(value) -> bool:
+        return bool(value) and hmac.compare_digest(value.encode(), expected)
+
+    @app.before_request
+    def check_access():
+        if request.path == "/access":
+            if not holds(request.args.get("token", "")):
+                raise WebError("open the address that 'stimlab serve' printed when it started (it ends in "
+                               "/access?token=…); this token is not the one", "Access token needed", 401,
+                               field="token")
+            response = redirect("/", 303)
+            response.set_cookie(ACCESS_COOKIE, token, httponly=True, samesite="Strict")
+            return response
+        if holds(request.cookies.get(ACCESS_COOKIE, "")) or holds(request.headers.get(ACCESS_HEADER, "")):
+            return None
+        raise WebError("this stimlab is reachable from other computers and asks for its access token: open the "
+                       "address 'stimlab serve' printed when it started (…/access?token=…) once in this browser",
+                       "Access token needed", 401, field="token")

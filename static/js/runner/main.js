@@ -1,6 +1,7 @@
 // The runner page: load the compiled session, run the checks, show the cautions, then present the trials.
 import { send } from "../api.js";
 import { colourSelfTest, geometry, measureRefresh, timerResolution } from "./checks.js";
+import { takeSession, whenDisplaced } from "./lease.js";
 import { SessionLog } from "./log.js";
 import { Painter } from "./paint.js";
 import { Schedule } from "./schedule.js";
@@ -45,6 +46,7 @@ async function main() {
     if (state === "reachable") document.getElementById("link-status").hidden = true;
   };
   window.stimlabLog = log;
+  if (!(await takeSession(log, say))) return;
   const resumed = progress.last_seq !== null;
   log.event(resumed ? "resumed" : "session_start", { completed_trials: progress.completed_trials.length,
     last_frame: progress.last_frame });
@@ -96,8 +98,9 @@ async function main() {
     "<p>Press <kbd>Space</kbd> to begin. <kbd>Esc</kbd> pauses at any time.</p>");
   window.stimlabState = "ready";
 
-  const schedule = new Schedule({ data, painter, log, progress });
+  const schedule = new Schedule({ data, painter, log, progress: log.resumeProgress(progress) });
   window.stimlabSchedule = schedule;
+  whenDisplaced(log, schedule, (title, detail) => stop(title, detail, log));
   schedule.onFinish = async () => {
     await log.flush();
     document.body.classList.remove("presenting");
