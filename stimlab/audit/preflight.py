@@ -16,10 +16,11 @@ from ..colorimetry.gamut import scale_limit
 from ..experiment.protocol import CAUTION
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, profile_warnings
 from .photosensitivity import analyse_condition
+from .screens import audit_screens
 
 __all__ = ["audit_protocol", "KINDS", "SEVERITIES"]
 
-KINDS = ("display", "gamut", "headroom", "bit_depth", "timing", "prediction", "photosensitivity", "geometry")
+KINDS = ("display", "gamut", "headroom", "bit_depth", "timing", "prediction", "photosensitivity", "geometry", "screens")
 SEVERITIES = ("fail", "warn", "info")
 
 
@@ -66,6 +67,7 @@ def audit_protocol(compiled, protocol: dict, profile: dict, *, max_age_days: int
     _timing(findings, compiled, protocol)
     flicker = _photosensitivity(findings, compiled, protocol)
     _geometry(findings, compiled)
+    audit_screens(findings, compiled, protocol)  # text colour, keys, session duration
     counts = {s: sum(1 for f in findings if f["severity"] == s) for s in SEVERITIES}
     order = {s: i for i, s in enumerate(SEVERITIES)}
     findings.sort(key=lambda f: (order[f["severity"]], KINDS.index(f["kind"])))

@@ -22,6 +22,7 @@ from ..errors import InputError
 from .design import conditions_from_variables, trial_order
 from .protocol import json_path, protocol_sha256
 from .responses import compile_response
+from .screens import add_screens
 
 __all__ = ["compile_protocol", "Compiled", "MODULATION_STEPS", "REFERENCE_GREY"]
 
@@ -260,7 +261,9 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
         "conditions": compiled_conditions,
         "trials": trials,
     }
-    return Compiled(data, model, background, stimuli_by_condition, responses_by_condition)
+    compiled = Compiled(data, model, background, stimuli_by_condition, responses_by_condition)
+    add_screens(compiled, protocol, rng)  # screens, keys, practice trials, breaks, pre-adaptation (screens.py)
+    return compiled
 
 
 def _public(entry):
