@@ -62,9 +62,9 @@ def response_keys(response: dict | None) -> dict | None:
         plane = "plane" in response
         keys = list(response.get("keys") or DEFAULT_KEYS["plane" if plane else "axis"])
         if len(keys) != (4 if plane else 2):
+            order = "first +, first −, second +, second −" if plane else "increase, decrease"
             raise InputError(f"an adjustment {'in a plane' if plane else 'along an axis'} takes "
-                             f"{4 if plane else 2} keys ({'first +, first −, second +, second −' if plane else 'increase, decrease'}); "
-                             f"got {len(keys)}", field="response.keys")
+                             f"{4 if plane else 2} keys ({order}); got {len(keys)}", field="response.keys")
         out["confirm"] = list(response.get("confirm_keys") or DEFAULT_CONFIRM)
         coarse = response.get("coarse_key", DEFAULT_COARSE)
         out["coarse"] = None if coarse == "none" else coarse
@@ -212,6 +212,10 @@ def add_screens(compiled, protocol: dict, rng) -> None:
                 phase.update(frames=frames, requested_s=adapt_s, actual_s=frames / refresh)
         data["schedules"]["practice"] = schedule
     data["trials"] = practice + main
+    for schedule in data["schedules"].values():
+        for phase in schedule:
+            if phase["phase"] == "respond" and keys:  # the runner honours exactly these keys
+                phase.update(keys=keys["keys"], confirm=keys["confirm"], coarse=keys["coarse"], moves=keys["moves"])
     for i, trial in enumerate(data["trials"]):
         trial["index"] = i
 

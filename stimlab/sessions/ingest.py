@@ -15,9 +15,10 @@ from ..errors import InputError
 from ..version import __version__
 from .frame_log import FrameBlock, read_block
 
-__all__ = ["create_session", "get_session", "ingest_batch", "frame_blocks", "iter_frames", "set_status", "progress"]
+__all__ = ["create_session", "get_session", "ingest_batch", "frame_blocks", "iter_frames", "set_status", "progress",
+           "end_early"]
 
-STATUSES = ("running", "interrupted", "complete")
+STATUSES = ("running", "interrupted", "complete", "ended_early")
 
 
 def _now() -> str:
@@ -25,12 +26,12 @@ def _now() -> str:
 
 
 def create_session(db, *, protocol_file: str, protocol_sha256: str, display_id: int, participant: str,
-                   compiled: dict, acknowledgement: dict | None) -> int:
+                   compiled: dict, acknowledgement: dict | None, dry_run: float | None = None) -> int:
     cursor = db.execute(
         "INSERT INTO sessions (protocol_file, protocol_sha256, display_id, participant, status, started_at, "
-        "compiled, acknowledgement, software_version) VALUES (?, ?, ?, ?, 'running', ?, ?, ?, ?)",
+        "compiled, acknowledgement, software_version, dry_run) VALUES (?, ?, ?, ?, 'running', ?, ?, ?, ?, ?)",
         (protocol_file, protocol_sha256, display_id, participant, _now(), json.dumps(compiled),
-         json.dumps(acknowledgement) if acknowledgement else None, __version__))
+         json.dumps(acknowledgement) if acknowledgement else None, __version__, dry_run))
     return cursor.lastrowid
 
 
@@ -130,6 +131,17 @@ def set_status(db, session_id: int, status: str) -> None:
         raise InputError(f"status must be one of {', '.join(STATUSES)}", field="status")
     db.execute("UPDATE sessions SET status = ?, ended_at = CASE WHEN ? = 'complete' THEN ? ELSE ended_at END "
                "WHERE id = ?", (status, status, _now(), session_id))
+
+
+def end_early(db, session_id: int, reason) -> None:
+    """Mark a session ended early by the experimenter, keeping the reason (exported with the session)."""
+    reason = reason.strip() if isinstance(reason, str) else ""
+    if not reason:
+        raise InputError("say why the session ends early (kept with the session and its exports)", field="reason")
+    if len(reason) > 500:
+        raise InputError("keep the reason under 500 characters", field="reason")
+    db.execute("UPDATE sessions SET status = 'ended_early', end_reason = ?, ended_at = ? WHERE id = ? "
+               "AND status != 'complete'", (reason, _now(), session_id))
 
 
 def progress(db, session_id: int) -> dict:

@@ -56,6 +56,11 @@ def api_index():
     return {"sessions": current_store().sessions(g.db, **_filters())}
 
 
+def for_analysis(session: dict, rows: list[dict]) -> list[dict]:
+    """The rows analysis uses: none from a dry run, no practice trials."""
+    return [] if session.get("dry_run") else [r for r in rows if not r.get("practice")]
+
+
 def by_condition(session: dict, rows: list[dict]) -> list[dict]:
     """Responses per condition, and for nulling or matching designs the null/match against the adapting vector."""
     data = session["compiled"]
@@ -150,7 +155,10 @@ def api_save_adjustment(session_id: int):
 
 def _store_adjustment(session_id: int):
     session = session_or_404(session_id)
-    summary = photometry_summary(session, trial_rows(g.db, session))
+    if session.get("dry_run"):
+        raise WebError("this session is a dry run: it is left out of analysis and cannot set an observer adjustment",
+                       field="session")
+    summary = photometry_summary(session, for_analysis(session, trial_rows(g.db, session)))
     if summary is None:
         raise WebError("this session is not a flicker photometry task", field="session")
     if "error" in summary:
@@ -173,9 +181,10 @@ def show(session_id: int):
     session = session_or_404(session_id)
     rows = trial_rows(g.db, session)
     quality = timing(g.db, session)
-    summary = by_condition(session, rows)
+    analysed = for_analysis(session, rows)
+    summary = by_condition(session, analysed)
     display = current_store().display(g.db, session["display_id"])
-    photometry = photometry_summary(session, rows)
+    photometry = photometry_summary(session, analysed)
     saved = current_store().latest_adjustment(g.db, session["participant"]) if photometry else None
     return render_template("session.html", session=session, rows=rows, quality=quality, summary=summary,
                            photometry=photometry, saved_adjustment=saved,
