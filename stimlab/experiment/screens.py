@@ -23,9 +23,10 @@ DEFAULT_PRE_ADAPTATION_S = 60.0
 """Seconds of background alone before the first trial and after every break (one to two minutes is common practice
 in chromatic adaptation studies; the protocol's ``session.pre_adaptation_s`` sets it)."""
 
-DEFAULT_TEXT_LUMINANCE = -0.15
-"""Text colour: this offset from the background along the DKL luminance axis (pooled cone contrast), a dim neutral
-that is readable without pulling adaptation away from the background."""
+DEFAULT_TEXT_LUMINANCE = -0.3
+"""Text colour: this offset from the background along the DKL luminance axis (pooled cone contrast, so about 17 %
+luminance contrast), a darker neutral that is readable without pulling adaptation away from the background. On a
+mid-grey background its change stays under the WCAG 2.2 flash transition of 10 % of the white's luminance."""
 
 RESERVED_KEYS = ("Escape",)
 """Keys the runner keeps for itself: Escape pauses."""
@@ -245,19 +246,19 @@ def add_screens(compiled, protocol: dict, rng) -> None:
     legend = keys["legend"] if keys else []
     title = data["protocol"]["title"]
     first_text = practice and instructions or block_text.get(labels.get(first_block), instructions)
-    pause_keys = "Space: go on.  Escape: end the session early (for the experimenter)."
     data["screens"] = {
         "instructions": _screen(title, [first_text, "This session starts with a few practice trials."
                                         if practice else ""], legend, "Press Space to begin."),
-        "pre_adaptation": _screen("Look at the centre of the screen",
-                                  ["Get used to the background. The trials start in {seconds} s."]),
+        "pre_adaptation": _screen("Look at the centre of the screen", ["Get used to the background."],
+                                  prompt="The trials start in {seconds} s."),
         "break": _screen("Break", ["{done} of {total} trials done.", "Rest your eyes as long as you like."],
                          legend, "Press Space to go on."),
         "break_wait": _screen("Break", ["{done} of {total} trials done.", "Rest your eyes.",
                                         "You can go on in {seconds} s."], legend),
         "after_practice": _screen("Practice over", ["The experiment proper starts now: {total} trials."],
                                   legend, "Press Space to go on."),
-        "pause": _screen("Paused", ["The trial that was running will start again, fully adapted."], [], pause_keys),
+        "pause": _screen("Paused", ["The trial that was running will start again, fully adapted."],
+                         [["Space", "go on"], ["Escape", "end the session early (experimenter)"]]),
         "resume": _screen(title, ["Resuming: {done} of {total} trials done."], legend, "Press Space to go on."),
         "end": _screen("Thank you", ["The session is complete."]),
         "ended_early": _screen("Thank you", ["The session has ended."]),

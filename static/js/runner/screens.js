@@ -19,7 +19,7 @@ export class Screens {
     this.width = width;
     this.height = height;
     // About 0.6° per font size at the viewing distance, kept between 18 and 40 device pixels.
-    this.size = Math.round(Math.min(40, Math.max(18, 0.6 * (data.pixels_per_degree ?? 30))));
+    this.size = Math.round(Math.min(40, Math.max(18, 0.7 * (data.pixels_per_degree ?? 30))));
     this.gap = 2 * this.size; // the centre stays clear of text: it is where the participant looks
     this.drawn = this.background.join(",");
   }
@@ -130,6 +130,12 @@ export class Countdown {
     if (seconds !== this.shownSeconds) {
       this.shownSeconds = seconds;
       this.drawn = this.screens.show(this.name, { ...this.values, seconds });
+      // The protocol's own fixation mark (compiled and audited with the stimuli) shows where to look.
+      const fixation = this.screens.data.fixation;
+      if (fixation) {
+        this.screens.painter.fixation(fixation);
+        this.drawn += `;fixation ${fixation.device.join(",")}`;
+      }
     }
     this.left -= 1;
     return { phase: this.phase, drawn: this.drawn };
