@@ -74,7 +74,7 @@ DRY_RUN_FACTORS = (0.5, 0.2, 0.1, 0.05, 0.02)
 
 def _dry_run_factor(value) -> float | None:
     """None for a real session; else the factor every duration is multiplied by."""
-    if value in (None, "", "no", False):
+    if value is None or value is False or (isinstance(value, str) and value.strip() in ("", "no")):
         return None
     try:
         factor = float(value)

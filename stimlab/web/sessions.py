@@ -26,7 +26,7 @@ from .plots import _Axes
 
 blueprint = Blueprint("sessions", __name__)
 
-STATUSES = ("running", "interrupted", "complete")
+STATUSES = ("running", "interrupted", "complete", "ended_early")
 FORMATS = ("csv", "json", "bids", "sidecar", "frames")
 
 
