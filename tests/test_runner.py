@@ -175,6 +175,8 @@ def test_a_closed_tab_resumes_at_the_next_unfinished_trial(server, page, context
     again = context.new_page()
     open_runner(again, server, session_id)
     assert "Resuming: 1 of 2 trials done" in again.locator("#runner-message").inner_text()
+    (ARTIFACTS / "screens").mkdir(parents=True, exist_ok=True)
+    again.screenshot(path=str(ARTIFACTS / "screens" / "ready_resumed.png"))
     again.keyboard.press(" ")
     wait_respond(again)
     assert again.evaluate("window.stimlabSchedule.trial.index") == 1

@@ -184,6 +184,9 @@ def test_a_dry_run_is_scaled_marked_and_left_out_of_analysis(server, page):
     page.wait_for_function("window.stimlabLog.backlog === 0", timeout=10000)
     listing = page.goto(f"{server.url}/sessions").text()
     assert "dry run" in listing
+    page.screenshot(path=str(SCREENS / "sessions_list.png"))
+    page.goto(f"{server.url}/run?protocol=dry.json&display=1")
+    page.screenshot(path=str(SCREENS / "run_page.png"), full_page=True)
     page_text = page.goto(f"{server.url}/sessions/{session_id}").text()
     assert "Dry run" in page_text and "left out of the analysis" in page_text
     rows = list(csv.DictReader(io.StringIO(page.request.get(f"{server.url}/sessions/{session_id}/export.csv").text())))

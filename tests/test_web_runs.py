@@ -59,3 +59,14 @@ def test_a_protocol_whose_text_colour_is_out_of_gamut_cannot_start(client):
     answer = create(client, protocol="bright.json")
     assert answer.status_code == 409
     assert "session.text_luminance" in answer.get_json()["error"]["message"]
+
+
+def test_the_session_page_ends_a_session_whose_runner_is_gone(client):
+    session_id = create(client).get_json()["id"]
+    page = client.get(f"/sessions/{session_id}").text
+    assert 'name="reason"' in page
+    ended = client.post(f"/sessions/{session_id}/end", data={"csrf_token": client.csrf, "reason": "no show"})
+    assert ended.status_code == 303
+    session = client.get(f"/api/sessions/{session_id}").get_json()
+    assert (session["status"], session["end_reason"]) == ("ended_early", "no show")
+    assert 'name="reason"' not in client.get(f"/sessions/{session_id}").text

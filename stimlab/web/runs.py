@@ -212,3 +212,13 @@ def api_end(session_id: int):
         raise WebError("send a JSON object with the reason", field="body")
     end_early(g.db, session_id, body.get("reason"))
     return {"id": session_id, "status": "ended_early", "end_reason": body["reason"].strip()}
+
+
+@blueprint.post("/sessions/<int:session_id>/end")
+def end_form(session_id: int):
+    """The session page's form: end a session whose runner is gone, with the experimenter's reason."""
+    session = _session(session_id)
+    if session["status"] == "complete":
+        raise WebError("this session is already complete; there is nothing to end", "Conflict", 409, field="status")
+    end_early(g.db, session_id, request.form.get("reason"))
+    return redirect(url_for("sessions.show", session_id=session_id), 303)

@@ -110,11 +110,8 @@ function checkFailure(data, checks) {
   return null;
 }
 
-function readyNotes(data, checks, progress, resumed) {
+function readyNotes(data, checks) {
   const notes = [];
-  const main = data.trials.filter((t) => !t.practice).length;
-  const done = progress.completed_trials.filter((i) => !data.trials[i]?.practice).length;
-  if (resumed) notes.push(`Resuming: ${done} of ${main} trials done.`);
   if (data.dry_run) notes.push(`Dry run: every duration × ${data.dry_run.factor}. Not for analysis.`);
   if (data.audit?.caution) notes.push(`Photosensitivity: ${data.audit.caution}`);
   if (!checks.geometry.screen_matches) {
@@ -156,8 +153,14 @@ async function main() {
   const failure = checkFailure(data, checks);
   if (failure) return stop(...failure, log);
 
-  const notes = readyNotes(data, checks, progress, resumed);
-  show("instructions", {}, notes);
+  const notes = readyNotes(data, checks);
+  if (resumed) {
+    const total = data.trials.filter((t) => !t.practice).length;
+    const done = progress.completed_trials.filter((i) => !data.trials[i]?.practice).length;
+    show("resume", { done, total }, [...data.screens.instructions.paragraphs, ...notes]);
+  } else {
+    show("instructions", {}, notes);
+  }
   setState("ready");
 
   const schedule = new Schedule({ data, painter, log, progress });
