@@ -70,3 +70,14 @@ def test_the_session_page_ends_a_session_whose_runner_is_gone(client):
     session = client.get(f"/api/sessions/{session_id}").get_json()
     assert (session["status"], session["end_reason"]) == ("ended_early", "no show")
     assert 'name="reason"' not in client.get(f"/sessions/{session_id}").text
+
+
+def test_a_dry_runs_exports_say_so_in_their_names(client):
+    session_id = create(client, dry_run_factor=0.1).get_json()["id"]
+    names = {fmt: client.get(f"/sessions/{session_id}/export.{fmt}").headers["Content-Disposition"]
+             for fmt in ("csv", "json", "bids", "sidecar", "frames")}
+    assert names["csv"].endswith('_dry-run_trials.csv"') and names["json"].endswith('_dry-run.json"')
+    assert names["frames"].endswith('_dry-run_frames.csv"')
+    # BIDS entity order: sub, task, acq, run (BIDS specification, "entity table").
+    assert names["bids"].endswith(f'sub-T01_task-stimlab_acq-dryrun_run-{session_id}_events.tsv"')
+    assert names["sidecar"].endswith(f'sub-T01_task-stimlab_acq-dryrun_run-{session_id}_events.json"')

@@ -195,7 +195,9 @@ def show(session_id: int):
 @blueprint.get("/sessions/<int:session_id>/export.<fmt>")
 def export(session_id: int, fmt: str):
     session = session_or_404(session_id)
-    stem = f"session-{session_id}_{session['participant']}"
+    dry = bool(session.get("dry_run"))  # a dry run says so in every file name (BIDS: the acq entity)
+    stem = f"session-{session_id}_{session['participant']}" + ("_dry-run" if dry else "")
+    bids = f"sub-{session['participant']}_task-stimlab_" + ("acq-dryrun_" if dry else "") + f"run-{session_id}"
     if fmt == "csv":
         return _download(rows_to_csv(trial_rows(g.db, session)), f"{stem}_trials.csv", "text/csv")
     if fmt == "json":
@@ -203,11 +205,9 @@ def export(session_id: int, fmt: str):
         return _download(json.dumps(session_json(g.db, session, profile), indent=1), f"{stem}.json",
                          "application/json")
     if fmt == "bids":
-        return _download(events_tsv(bids_events(g.db, session)), f"sub-{session['participant']}_task-stimlab_"
-                         f"run-{session_id}_events.tsv", "text/tab-separated-values")
+        return _download(events_tsv(bids_events(g.db, session)), f"{bids}_events.tsv", "text/tab-separated-values")
     if fmt == "sidecar":
-        return _download(json.dumps(BIDS_SIDECAR, indent=2), f"sub-{session['participant']}_task-stimlab_"
-                         f"run-{session_id}_events.json", "application/json")
+        return _download(json.dumps(BIDS_SIDECAR, indent=2), f"{bids}_events.json", "application/json")
     if fmt == "frames":  # streamed: an hour's log is tens of MB
         return _download(stream_with_context(frames_csv_chunks(g.db, session_id)), f"{stem}_frames.csv", "text/csv")
     raise NotFound(f"unknown export format {fmt!r}; choose one of: {', '.join(FORMATS)}")
