@@ -89,6 +89,7 @@ def test_every_screen_is_the_background_with_compiled_text(server, page):
     page.wait_for_timeout(100)  # a few paused frames: nothing may draw over the pause screen
     assert_background_screen(page, data, "pause")
     page.keyboard.press(" ")
+    page.wait_for_function("window.stimlabScreen === 'pre_adapt'")  # the aborted trial starts again after it
     wait_respond(page)
     page.keyboard.press("Enter")
     page.wait_for_function("window.stimlabState === 'finished'", timeout=10000)
@@ -144,6 +145,8 @@ def test_only_the_protocols_keys_act_and_practice_is_flagged(server, page):
             assert "2 trials" in page.locator("#runner-message").inner_text()
             page.wait_for_function("window.stimlabSchedule.interlude.current.ready")
             page.keyboard.press(" ")
+        else:
+            page.wait_for_function(f"window.stimlabSchedule.trial?.index !== {trial}")
     page.wait_for_function("window.stimlabState === 'finished'", timeout=20000)
     page.wait_for_function("window.stimlabLog.backlog === 0", timeout=10000)
     rows = list(csv.DictReader(io.StringIO(page.request.get(f"{server.url}/sessions/{session_id}/export.csv").text())))

@@ -183,7 +183,10 @@ async function main() {
           return shown;
         }
         queue.shift();
-        if (queue.length === 0) screens.clear();
+        if (queue.length === 0) {
+          screens.clear();
+          window.stimlabScreen = null; // the trials: no screen
+        }
       }
       return null;
     }, get current() { return queue[0]; } } : null;
