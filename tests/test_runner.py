@@ -26,6 +26,7 @@ def quick_null(adapt_s=0.5):
     protocol["conditions"].update(repeats=1, variables={"axis": {"L-M": [0, 0.06, 0]},
                                                         "polarity": {"plus": 1, "minus": -1}})
     protocol["conditions"].pop("blocks")
+    protocol["session"] = {"pre_adaptation_s": 0.2}
     return protocol
 
 
@@ -174,6 +175,8 @@ def test_a_closed_tab_resumes_at_the_next_unfinished_trial(server, page, context
     again = context.new_page()
     open_runner(again, server, session_id)
     assert "Resuming: 1 of 2 trials done" in again.locator("#runner-message").inner_text()
+    (ARTIFACTS / "screens").mkdir(parents=True, exist_ok=True)
+    again.screenshot(path=str(ARTIFACTS / "screens" / "ready_resumed.png"))
     again.keyboard.press(" ")
     wait_respond(again)
     assert again.evaluate("window.stimlabSchedule.trial.index") == 1
@@ -216,6 +219,7 @@ def test_flicker_photometry_in_the_runner(server, page):
     protocol = json.loads((PROTOCOLS / "flicker_photometry.json").read_text())
     protocol["trial"][0]["duration_s"] = 0.1
     protocol["conditions"]["repeats"] = 2
+    protocol["session"] = {"pre_adaptation_s": 0.1}
     session_id = start(page, server, protocol, name="hfp.json", participant="P03")
     open_runner(page, server, session_id)
     assert "Photosensitivity" in page.locator("#runner-message").inner_text()

@@ -21,10 +21,12 @@ from ..experiment.timecourse import shown_frequency_hz, square_period_frames
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, profile_warnings
 from .flashes import MAX_FLASHES_PER_SECOND
 from .photosensitivity import analyse_sequence
+from .screens import audit_screens
 
 __all__ = ["audit_protocol", "KINDS", "SEVERITIES"]
 
-KINDS = ("display", "gamut", "headroom", "bit_depth", "timing", "prediction", "rods", "photosensitivity", "geometry")
+KINDS = ("display", "gamut", "headroom", "bit_depth", "timing", "prediction", "rods", "photosensitivity", "geometry",
+         "screens")
 SEVERITIES = ("fail", "warn", "info")
 
 
@@ -72,6 +74,7 @@ def audit_protocol(compiled, protocol: dict, profile: dict, *, max_age_days: int
     _timing(findings, compiled, protocol)
     flicker = _photosensitivity(findings, compiled, protocol)
     _geometry(findings, compiled)
+    audit_screens(findings, compiled, protocol)  # text colour, keys, session duration
     counts = {s: sum(1 for f in findings if f["severity"] == s) for s in SEVERITIES}
     order = {s: i for i, s in enumerate(SEVERITIES)}
     findings.sort(key=lambda f: (order[f["severity"]], KINDS.index(f["kind"])))

@@ -24,6 +24,7 @@ from .design import conditions_from_variables, trial_order
 from .plan import build_plan, plan_sha256
 from .protocol import json_path, protocol_sha256
 from .responses import compile_response
+from .screens import add_screens
 from .timecourse import phase_frames, shown_frequency_hz
 
 __all__ = ["compile_protocol", "Compiled", "MODULATION_STEPS", "REFERENCE_GREY"]
@@ -250,7 +251,6 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
                                                      response=compiled_response))
 
     schedules = _schedules(protocol, refresh)
-    plan = build_plan(compiled_conditions[0].stimuli, schedules, refresh)
     trials = _trials(design, conditions, response, [c.response for c in compiled_conditions], rng, participant)
     data = {
         "stimlab_compiled": 1,
@@ -270,10 +270,12 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
         "photometry": protocol.get("photometry"),
         "conditions": [c.to_json() for c in compiled_conditions],
         "trials": trials,
-        "plan": plan,
     }
+    compiled = Compiled(data, model, background, compiled_conditions)
+    add_screens(compiled, protocol, rng)  # screens, keys, practice trials, breaks, pre-adaptation (screens.py)
+    data["plan"] = build_plan(compiled_conditions[0].stimuli, data["schedules"], refresh)
     data["plan_sha256"] = plan_sha256(data)
-    return Compiled(data, model, background, compiled_conditions)
+    return compiled
 
 
 def _fixation(protocol, background, distance, px_per_cm):

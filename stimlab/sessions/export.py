@@ -72,6 +72,8 @@ def trial_rows(db, session: dict) -> list[dict]:
         row = {"session": session["id"], "participant": session["participant"],
                "protocol": data["protocol"]["title"], "display_sha256": data["display"]["sha256"],
                "observer": data["observer"]["key"], "trial": trial["index"], "block": trial["block"],
+               # practice trials and dry runs are kept but marked: analysis leaves them out
+               "practice": bool(trial.get("practice")), "dry_run": (data.get("dry_run") or {}).get("factor"),
                "condition": condition["label"], **{f"var_{k}": v for k, v in condition["labels"].items()},
                "target_side": trial.get("target_side"), "completed": end is not None,
                "restarts": aborted.get(trial["index"], 0)}
@@ -143,7 +145,8 @@ def session_json(db, session: dict, profile: dict) -> dict:
     frames = [list(f) for f in iter_frames(db, session["id"])]
     return {"stimlab_session_export": 1, "software_version": __version__, "exporter_version": __version__,
             "session": {k: session[k] for k in ("id", "participant", "status", "started_at", "ended_at",
-                                                "protocol_file", "protocol_sha256", "software_version")},
+                                                "protocol_file", "protocol_sha256", "software_version")}
+            | {"end_reason": session.get("end_reason"), "dry_run": session.get("dry_run")},
             "acknowledgement": session["acknowledgement"], "checks": session["checks"],
             "observer": session["compiled"]["observer"], "display_profile": profile,
             "display_sha256": profile["sha256"], "compiled": session["compiled"],
@@ -163,6 +166,8 @@ BIDS_SIDECAR = {
     "trial": {"Description": "Trial index in the compiled protocol (0-based)"},
     "condition": {"Description": "Condition label: the condition variables and their levels"},
     "frame": {"Description": "Session frame number of the onset"},
+    "practice": {"Description": "Whether the trial is a practice trial (not for analysis)",
+                 "Levels": {"True": "practice trial", "False": "experimental trial"}},
     "response_time": {"Description": "Key press time after the onset of the respond phase (event.timeStamp "
                                      "minus the onset frame's timestamp)", "Units": "ms"},
     "response": {"Description": "Adjustment position, key or choice recorded at the end of the trial"},
@@ -184,6 +189,7 @@ def bids_events(db, session: dict) -> list[dict]:
         rows.append({"onset": round((onset["t"] - first) / 1000, 6), "duration": round(max(later - onset["t"], 0) / 1000, 6),
                      "trial_type": onset["phase"], "trial": onset["trial"],
                      "condition": data["conditions"][onset["condition"]]["label"], "frame": onset["frame"],
+                     "practice": bool(data["trials"][onset["trial"]].get("practice")),
                      "response_time": result.get("rt_ms") if respond else "n/a",
                      "response": json.dumps([round(p, 9) for p in result["position"]] if "position" in result
                                             else result.get("key")) if respond and result else "n/a"})

@@ -18,9 +18,9 @@ from .events import event_rows
 from .frame_log import FrameBlock, read_block
 
 __all__ = ["create_session", "get_session", "ingest_batch", "frame_blocks", "iter_frames", "set_status", "progress",
-           "take_lease", "release_lease", "LEASE_IDLE_S"]
+           "take_lease", "release_lease", "LEASE_IDLE_S", "end_early"]
 
-STATUSES = ("running", "interrupted", "complete")
+STATUSES = ("running", "interrupted", "complete", "ended_early")
 LEASE_IDLE_S = 6  # a runner posts a batch or a heartbeat every 1–2 s; one silent this long has closed or crashed
 RELEASED = "1970-01-01T00:00:00.000+00:00"  # seen_at of a lease its runner gave up (its page closed)
 
@@ -30,12 +30,12 @@ def _now() -> str:
 
 
 def create_session(db, *, protocol_file: str, protocol_sha256: str, display_id: int, participant: str,
-                   compiled: dict, acknowledgement: dict | None) -> int:
+                   compiled: dict, acknowledgement: dict | None, dry_run: float | None = None) -> int:
     cursor = db.execute(
         "INSERT INTO sessions (protocol_file, protocol_sha256, display_id, participant, status, started_at, "
-        "compiled, acknowledgement, software_version) VALUES (?, ?, ?, ?, 'running', ?, ?, ?, ?)",
+        "compiled, acknowledgement, software_version, dry_run) VALUES (?, ?, ?, ?, 'running', ?, ?, ?, ?, ?)",
         (protocol_file, protocol_sha256, display_id, participant, _now(), dumps(compiled),
-         dumps(acknowledgement) if acknowledgement else None, __version__))
+         dumps(acknowledgement) if acknowledgement else None, __version__, dry_run))
     return cursor.lastrowid
 
 
@@ -225,6 +225,17 @@ def set_status(db, session_id: int, status: str) -> None:
         raise InputError(f"status must be one of {', '.join(STATUSES)}", field="status")
     db.execute("UPDATE sessions SET status = ?, ended_at = CASE WHEN ? = 'complete' THEN ? ELSE ended_at END "
                "WHERE id = ?", (status, status, _now(), session_id))
+
+
+def end_early(db, session_id: int, reason) -> None:
+    """Mark a session ended early by the experimenter, keeping the reason (exported with the session)."""
+    reason = reason.strip() if isinstance(reason, str) else ""
+    if not reason:
+        raise InputError("say why the session ends early (kept with the session and its exports)", field="reason")
+    if len(reason) > 500:
+        raise InputError("keep the reason under 500 characters", field="reason")
+    db.execute("UPDATE sessions SET status = 'ended_early', end_reason = ?, ended_at = ? WHERE id = ? "
+               "AND status != 'complete'", (reason, _now(), session_id))
 
 
 def progress(db, session_id: int) -> dict:

@@ -146,7 +146,25 @@ MIGRATIONS = [
         seen_at TEXT NOT NULL
     );
     """,
+    lambda db: _sessions_end_early_and_dry_run(db),
 ]
+
+
+def _sessions_end_early_and_dry_run(db) -> None:
+    """Status 'ended_early' with its reason, and the dry-run duration factor (NULL for a real session).
+
+    The status CHECK constraint is widened in place, as SQLite documents for schema changes that leave the stored
+    rows valid (ALTER TABLE, "making other kinds of table schema changes"); the new columns are plain additions.
+    """
+    sql = db.execute("SELECT sql FROM sqlite_schema WHERE type = 'table' AND name = 'sessions'").fetchone()[0]
+    version = db.execute("PRAGMA schema_version").fetchone()[0]
+    db.execute("PRAGMA writable_schema = ON")
+    db.execute("UPDATE sqlite_schema SET sql = ? WHERE type = 'table' AND name = 'sessions'",
+               (sql.replace("'interrupted', 'complete')", "'interrupted', 'complete', 'ended_early')"),))
+    db.execute(f"PRAGMA schema_version = {version + 1}")
+    db.execute("PRAGMA writable_schema = OFF")
+    db.execute("ALTER TABLE sessions ADD COLUMN end_reason TEXT")
+    db.execute("ALTER TABLE sessions ADD COLUMN dry_run REAL")
 
 
 def default_data_dir() -> Path:
@@ -343,7 +361,8 @@ class Store:
     # -- sessions -----------------------------------------------------------------------------------------------
     def sessions(self, db, protocol: str | None = None, participant: str | None = None,
                  status: str | None = None) -> list[dict]:
-        query = ("SELECT s.id, s.protocol_file, s.participant, s.status, s.started_at, s.ended_at, d.name AS display "
+        query = ("SELECT s.id, s.protocol_file, s.participant, s.status, s.started_at, s.ended_at, s.dry_run, "
+                 "s.end_reason, d.name AS display "
                  "FROM sessions s JOIN displays d ON d.id = s.display_id WHERE 1 = 1")
         args = []
         for column, value in (("s.protocol_file", protocol), ("s.participant", participant), ("s.status", status)):

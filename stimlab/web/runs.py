@@ -17,8 +17,9 @@ from flask import (
 
 from ..errors import InputError
 from ..experiment.protocol import CAUTION
+from ..experiment.screens import scale_durations
 from ..jsonio import dumps, loads
-from ..sessions.ingest import create_session, ingest_batch, progress, release_lease, take_lease
+from ..sessions.ingest import create_session, end_early, ingest_batch, progress, release_lease, take_lease
 from . import current_store
 from .displays import _get as get_display
 from .displays import default_display_id
@@ -69,16 +70,41 @@ def start_page():
         state = {**gate(report), "report": report, "trials": len(compiled.data["trials"]),
                  "conditions": len(compiled.data["conditions"])}
     return render_template("run_start.html", protocols=protocols, name=name, displays=current_store().displays(g.db),
-                           display_id=display_id, state=state, caution=CAUTION)
+                           display_id=display_id, state=state, caution=CAUTION, dry_run_factors=DRY_RUN_FACTORS)
 
 
-def start_session(name: str, display_id, participant: str, ack: dict | None) -> int:
-    """Compile, audit and store a new session; refuse a failing audit unless only flashes fail and are acknowledged."""
+DRY_RUN_FACTORS = (0.5, 0.2, 0.1, 0.05, 0.02)
+"""Duration factors offered for a dry run on the Run page (the API takes any factor above 0 and at most 1)."""
+
+
+def _dry_run_factor(value) -> float | None:
+    """None for a real session; else the factor every duration is multiplied by."""
+    if value is None or value is False or (isinstance(value, str) and value.strip() in ("", "no")):
+        return None
+    try:
+        factor = float(value)
+    except (TypeError, ValueError):
+        raise WebError(f"the dry-run factor must be a number, got {value!r}", field="dry_run_factor") from None
+    if not 0 < factor <= 1:
+        raise WebError("the dry-run factor must be above 0 and at most 1 (0.1 runs ten times faster)",
+                       field="dry_run_factor")
+    return factor
+
+
+def start_session(name: str, display_id, participant: str, ack: dict | None, dry_run=None) -> int:
+    """Compile, audit and store a new session; refuse a failing audit unless only flashes fail and are acknowledged.
+
+    A dry run (``dry_run`` a factor in (0, 1]) has every duration scaled by that factor and is marked as such in
+    the session, its page, the list and every export.
+    """
     if not isinstance(name, str) or not name:
         raise WebError("protocol must be the name of a protocol file, such as 'afterimage_null.json'", field="protocol")
     _, protocol, error = read_protocol(name)
     if error:
         raise WebError.from_input(error)
+    factor = _dry_run_factor(dry_run)
+    if factor is not None:
+        protocol = scale_durations(protocol, factor)
     display = get_display(whole_number(display_id, "display", minimum=1))
     participant = _participant(participant)
     if ack is not None:
@@ -100,10 +126,11 @@ def start_session(name: str, display_id, participant: str, ack: dict | None) -> 
                            "experimenter": ack["experimenter"],
                            "findings": [f["message"] for f in state["flashing"]], "caution": CAUTION}
     data = dict(compiled.data, audit={"passed": report["passed"], "counts": report["counts"],
-                                      "caution": report["caution"]})
+                                      "caution": report["caution"]},
+                dry_run={"factor": factor} if factor is not None else None)
     return create_session(g.db, protocol_file=name, protocol_sha256=compiled.data["protocol"]["sha256"],
                           display_id=display["id"], participant=participant, compiled=data,
-                          acknowledgement=acknowledgement)
+                          acknowledgement=acknowledgement, dry_run=factor)
 
 
 def acknowledgement_from(ack) -> dict:
@@ -131,7 +158,9 @@ def start_form():
     form = request.form
     ack = {"accepted": form.get("accept") == "yes", "ethics_reference": form.get("ethics_reference", ""),
            "experimenter": form.get("experimenter", "")}
-    session_id = start_session(form.get("protocol", ""), form.get("display"), form.get("participant", ""), ack)
+    dry_run = form.get("dry_run_factor") if form.get("dry_run") == "yes" else None
+    session_id = start_session(form.get("protocol", ""), form.get("display"), form.get("participant", ""), ack,
+                               dry_run)
     return redirect(url_for("runs.runner", session_id=session_id), 303)
 
 
@@ -141,7 +170,7 @@ def api_create():
     if not isinstance(body, dict):
         raise WebError("send a JSON object with protocol, display and participant", field="body")
     session_id = start_session(body.get("protocol") or "", body.get("display"), body.get("participant", ""),
-                               body.get("acknowledgement"))
+                               body.get("acknowledgement"), body.get("dry_run_factor"))
     return {"id": session_id, "runner": url_for("runs.runner", session_id=session_id)}, 201
 
 
@@ -167,6 +196,7 @@ def api_show(session_id: int):
     return {"id": session["id"], "status": session["status"], "participant": session["participant"],
             "protocol_file": session["protocol_file"], "compiled": session["compiled"],
             "acknowledgement": session["acknowledgement"], "checks": session["checks"],
+            "dry_run": session.get("dry_run"), "end_reason": session.get("end_reason"),
             "progress": progress(g.db, session_id)}
 
 
@@ -209,3 +239,27 @@ def api_lease(session_id: int):
     if body.get("release") is True:
         return release_lease(g.db, session_id, str(body.get("runner")))
     return take_lease(g.db, session_id, body.get("runner"), take_over=body.get("take_over", False))
+
+
+@blueprint.post("/api/sessions/<int:session_id>/end")
+@runner_writes
+def api_end(session_id: int):
+    """End a session early with the experimenter's reason (from the runner, or with the CSRF token)."""
+    session = _session(session_id)
+    if session["status"] == "complete":
+        raise WebError("this session is already complete; there is nothing to end", "Conflict", 409, field="status")
+    body = request.get_json(silent=True)
+    if not isinstance(body, dict):
+        raise WebError("send a JSON object with the reason", field="body")
+    end_early(g.db, session_id, body.get("reason"))
+    return {"id": session_id, "status": "ended_early", "end_reason": body["reason"].strip()}
+
+
+@blueprint.post("/sessions/<int:session_id>/end")
+def end_form(session_id: int):
+    """The session page's form: end a session whose runner is gone, with the experimenter's reason."""
+    session = _session(session_id)
+    if session["status"] == "complete":
+        raise WebError("this session is already complete; there is nothing to end", "Conflict", 409, field="status")
+    end_early(g.db, session_id, request.form.get("reason"))
+    return redirect(url_for("sessions.show", session_id=session_id), 303)

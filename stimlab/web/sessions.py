@@ -26,7 +26,7 @@ from .plots import _Axes
 
 blueprint = Blueprint("sessions", __name__)
 
-STATUSES = ("running", "interrupted", "complete")
+STATUSES = ("running", "interrupted", "complete", "ended_early")
 FORMATS = ("csv", "json", "bids", "sidecar", "frames")
 
 
@@ -54,6 +54,11 @@ def index():
 @blueprint.get("/api/sessions")
 def api_index():
     return {"sessions": current_store().sessions(g.db, **_filters())}
+
+
+def for_analysis(session: dict, rows: list[dict]) -> list[dict]:
+    """The rows analysis uses: none from a dry run, no practice trials."""
+    return [] if session.get("dry_run") else [r for r in rows if not r.get("practice")]
 
 
 def by_condition(session: dict, rows: list[dict]) -> list[dict]:
@@ -150,7 +155,10 @@ def api_save_adjustment(session_id: int):
 
 def _store_adjustment(session_id: int):
     session = session_or_404(session_id)
-    summary = photometry_summary(session, trial_rows(g.db, session))
+    if session.get("dry_run"):
+        raise WebError("this session is a dry run: it is left out of analysis and cannot set an observer adjustment",
+                       field="session")
+    summary = photometry_summary(session, for_analysis(session, trial_rows(g.db, session)))
     if summary is None:
         raise WebError("this session is not a flicker photometry task", field="session")
     if "error" in summary:
@@ -173,9 +181,10 @@ def show(session_id: int):
     session = session_or_404(session_id)
     rows = trial_rows(g.db, session)
     quality = timing(g.db, session)
-    summary = by_condition(session, rows)
+    analysed = for_analysis(session, rows)
+    summary = by_condition(session, analysed)
     display = current_store().display(g.db, session["display_id"])
-    photometry = photometry_summary(session, rows)
+    photometry = photometry_summary(session, analysed)
     saved = current_store().latest_adjustment(g.db, session["participant"]) if photometry else None
     return render_template("session.html", session=session, rows=rows, quality=quality, summary=summary,
                            photometry=photometry, saved_adjustment=saved,
@@ -186,7 +195,9 @@ def show(session_id: int):
 @blueprint.get("/sessions/<int:session_id>/export.<fmt>")
 def export(session_id: int, fmt: str):
     session = session_or_404(session_id)
-    stem = f"session-{session_id}_{session['participant']}"
+    dry = bool(session.get("dry_run"))  # a dry run says so in every file name (BIDS: the acq entity)
+    stem = f"session-{session_id}_{session['participant']}" + ("_dry-run" if dry else "")
+    bids = f"sub-{session['participant']}_task-stimlab_" + ("acq-dryrun_" if dry else "") + f"run-{session_id}"
     if fmt == "csv":
         return _download(rows_to_csv(trial_rows(g.db, session)), f"{stem}_trials.csv", "text/csv")
     if fmt == "json":
@@ -194,11 +205,9 @@ def export(session_id: int, fmt: str):
         return _download(json.dumps(session_json(g.db, session, profile), indent=1), f"{stem}.json",
                          "application/json")
     if fmt == "bids":
-        return _download(events_tsv(bids_events(g.db, session)), f"sub-{session['participant']}_task-stimlab_"
-                         f"run-{session_id}_events.tsv", "text/tab-separated-values")
+        return _download(events_tsv(bids_events(g.db, session)), f"{bids}_events.tsv", "text/tab-separated-values")
     if fmt == "sidecar":
-        return _download(json.dumps(BIDS_SIDECAR, indent=2), f"sub-{session['participant']}_task-stimlab_"
-                         f"run-{session_id}_events.json", "application/json")
+        return _download(json.dumps(BIDS_SIDECAR, indent=2), f"{bids}_events.json", "application/json")
     if fmt == "frames":  # streamed: an hour's log is tens of MB
         return _download(stream_with_context(frames_csv_chunks(g.db, session_id)), f"{stem}_frames.csv", "text/csv")
     raise NotFound(f"unknown export format {fmt!r}; choose one of: {', '.join(FORMATS)}")

@@ -1,12 +1,16 @@
 // Keys to responses: adjustment along an axis or in a plane (fine and coarse steps), 2AFC, yes/no, the
 // after-image-gone key, and the staircase rule. Positions are indices into the compiled ladder, so the device
-// levels shown are exactly the server's.
+// levels shown are exactly the server's. Only the keys compiled into the respond phase act (keys, confirm, the
+// coarse-step modifier and the move of each key, defaults filled in by the compiler); every other key is ignored.
 
 export class Responder {
   constructor(method, response, phaseSpec) {
     this.method = method;
     this.response = response; // compiled adjustment/staircase (null for the others)
     this.keys = phaseSpec?.keys;
+    this.confirm = phaseSpec?.confirm ?? [];
+    this.coarse = phaseSpec?.coarse ?? null;
+    this.moves = phaseSpec?.moves ?? {};
   }
 
   begin(trial, onsetStamp) {
@@ -55,17 +59,17 @@ export class Responder {
 
   adjust(event, rt) {
     const k = event.key;
-    if (k === "Enter" || k === " ") {
+    if (this.confirm.includes(k)) {
       this.result = { method: "adjustment", position_index: this.position.length === 1 ? this.position[0]
         : [...this.position], position: this.value(), device: this.levels(), rt_ms: rt };
       return { kind: "response", ...this.result };
     }
-    const plane = this.position.length === 2;
-    const moves = plane ? { ArrowRight: [0, 1], ArrowLeft: [0, -1], ArrowUp: [1, 1], ArrowDown: [1, -1] }
-      : { ArrowUp: [0, 1], ArrowRight: [0, 1], ArrowDown: [0, -1], ArrowLeft: [0, -1] };
-    if (!(k in moves)) return null;
-    const [axis, sign] = moves[k];
-    const size = event.shiftKey ? this.response.coarse_step_positions : 1;
+    // Shift turns a letter key's name upper case: a coarse step on "f" arrives as "F".
+    const name = Object.hasOwn(this.moves, k) ? k : this.coarse === "Shift" && k.length === 1 ? k.toLowerCase() : null;
+    if (name === null || !Object.hasOwn(this.moves, name)) return null;
+    const [axis, sign] = this.moves[name];
+    const coarse = this.coarse !== null && event.getModifierState(this.coarse);
+    const size = coarse ? this.response.coarse_step_positions : 1;
     const before = [...this.position];
     const limit = this.response.positions.count - 1;
     this.position[axis] = Math.max(0, Math.min(limit, this.position[axis] + sign * size));
@@ -74,7 +78,7 @@ export class Responder {
       return { kind: "gamut_edge", position_index: [...this.position] };
     }
     return { kind: "adjust", position_index: [...this.position], position: this.value(), device: this.levels(),
-      coarse: event.shiftKey };
+      coarse };
   }
 }
 

@@ -28,6 +28,9 @@ export class Schedule {
     this.settleFrames = Math.round(SETTLE_S * data.display.refresh_hz);
     this.settleLeft = 0;
     this.onFinish = () => {};
+    // Screens between trials (pre-adaptation, breaks: screens.js): { frame() -> { phase, drawn } or null when over }.
+    this.interlude = null;
+    this.beforeTrial = null; // called with each trial before it starts; may set an interlude
     // Benchmark hooks (?measure=1, ?log_frames=0): callback durations, and frame logging switched off.
     const params = new URLSearchParams(location.search);
     this.durations = params.get("measure") === "1" ? [] : null;
@@ -61,7 +64,8 @@ export class Schedule {
         this.queue.shift(); // this staircase has stopped: its remaining trials are not needed
         continue;
       }
-      const which = this.fullAdapt || trial.schedule === "first" ? "first" : "repeat";
+      this.beforeTrial?.(trial);
+      const which = trial.practice ? "practice" : this.fullAdapt || trial.schedule === "first" ? "first" : "repeat";
       this.trial = { ...trial, phases: this.data.schedules[which], condition };
       this.phaseIndex = -1;
       this.trialDropped = 0;
@@ -139,12 +143,13 @@ export class Schedule {
   }
 
   tick(stamp) {
+    if (this.stopped) return; // ended early: no more frames
     const callbackStart = performance.now();
     const dropped = this.lastStamp !== null && stamp - this.lastStamp >= 1.5 * this.period;
     this.lastStamp = stamp;
     if (dropped) {
       this.dropped += 1;
-      if (!this.paused && this.settleLeft === 0) this.trialDropped += 1;
+      if (!this.paused && this.settleLeft === 0 && !this.interlude) this.trialDropped += 1;
     }
     if (this.paused) {
       this.log.frame(this.frame++, stamp, callbackStart, null, "pause", dropped);
@@ -158,7 +163,9 @@ export class Schedule {
       requestAnimationFrame((t) => this.tick(t));
       return;
     }
+    if (this.interlude && this.playInterlude(stamp, callbackStart, dropped)) return;
     this.advance(stamp);
+    if (this.interlude && this.playInterlude(stamp, callbackStart, dropped)) return;
     if (!this.trial) {
       this.log.event("session_end", { t: stamp, frames: this.frame, dropped_frames: this.dropped });
       this.onFinish();
@@ -168,7 +175,7 @@ export class Schedule {
     if (this.onsetPending) {
       this.onsetPending = false;
       this.log.event("phase_onset", { trial: this.trial.index, phase: phase.phase, t: stamp, frame: this.frame,
-        condition: this.trial.condition.index });
+        condition: this.trial.condition.index, practice: Boolean(this.trial.practice) });
       if (phase.phase === "respond") this.responder?.begin(this.trial, stamp);
     }
     const items = phase.stimuli.map((name) => this.item(name));
@@ -183,6 +190,18 @@ export class Schedule {
     this.inPhase += 1;
     if (this.durations) this.durations.push(performance.now() - callbackStart);
     requestAnimationFrame((t) => this.tick(t));
+  }
+
+  playInterlude(stamp, callbackStart, dropped) {
+    const shown = this.interlude.frame(stamp);
+    if (!shown) {
+      this.interlude = null;
+      return false;
+    }
+    if (this.logFrames) this.log.frame(this.frame, stamp, callbackStart, null, shown.phase, dropped, shown.drawn);
+    this.frame += 1;
+    requestAnimationFrame((t) => this.tick(t));
+    return true;
   }
 
   // Move to the next phase or trial when the current one has run its frames or has its response.
@@ -211,8 +230,8 @@ export class Schedule {
   endTrial(stamp) {
     const result = this.responder?.result ?? null;
     const fields = { trial: this.trial.index, t: stamp, condition: this.trial.condition.index,
-      response: result, dropped_frames: this.trialDropped };
-    if (this.trial.condition.response?.kind === "staircase" && result) {
+      response: result, dropped_frames: this.trialDropped, practice: Boolean(this.trial.practice) };
+    if (this.trial.condition.response?.kind === "staircase" && result && !this.trial.practice) {
       const staircase = this.staircase(this.trial.condition.index);
       fields.staircase_value = staircase.state().value;
       const state = staircase.update(result.correct);
@@ -226,7 +245,7 @@ export class Schedule {
   pause(reason) {
     if (this.paused) return;
     this.paused = true;
-    if (this.trial) {
+    if (this.trial && !this.interlude) {
       this.log.event("trial_aborted", { trial: this.trial.index, reason, t: performance.now() });
       this.fullAdapt = true;
       this.nextTrialOnResume = true;
