@@ -108,7 +108,7 @@ class RodResponse:
         Scotopic luminance of the all-zero drive, scotopic cd/m².
     """
 
-    m_rod: np.ndarray
+    m_rod: NDArray[np.float64]
     black: float
 
     def scotopic_luminance(self, RGB: ArrayLike) -> NDArray[np.float64]:
