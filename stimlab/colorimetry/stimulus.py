@@ -6,16 +6,16 @@ in any supported space into cone excitations, and :meth:`Background.describe` re
 
 Notes
 -----
-=======================  ===============================================================  ==========================
-Space                    Coordinates                                                      Relative to
-=======================  ===============================================================  ==========================
-``cone_contrast``        L, M, S contrast, above −1                                        the background
-``dkl``                  lum, L−M, S in pooled cone contrast (Brainard 1996)               the background
-``dkl_display_maximum``  lum, L−M, S as fractions of the gamut edge along each + axis      the background and gamut
-``macleod_boynton``      l (0..1), s (≥ 0), luminance (cd/m²) (CIE 170-2:2015)             —
-``lms``                  cone excitations, ``w_L·L + w_M·M`` in cd/m²                      —
-``rgb_linear``           fraction of each primary's full drive above black, 0..1 in gamut  —
-=======================  ===============================================================  ==========================
+=======================  ============================================================  =====================
+Space                    Coordinates                                                   Relative to
+=======================  ============================================================  =====================
+``cone_contrast``        L, M, S contrast, above −1                                    the background
+``dkl``                  lum, L−M, S in pooled cone contrast (Brainard 1996)           the background
+``dkl_display_maximum``  lum, L−M, S as fractions of the gamut edge along each + axis  the background, gamut
+``macleod_boynton``      l (0..1), s (≥ 0), luminance (cd/m²) (CIE 170-2:2015)         —
+``lms``                  cone excitations, ``w_L·L + w_M·M`` in cd/m²                  —
+``rgb_linear``           fraction of each primary's full drive above black, 0..1       —
+=======================  ============================================================  =====================
 """
 
 from __future__ import annotations
