@@ -298,7 +298,7 @@ class TableTransfer:
         return self._curve(x)[()]
 
     def inverse(self, y: ArrayLike) -> NDArray[np.float64]:
-        """Normalised input that gives normalised output ``y``, within the table's levels (0..1); to 1/65536."""
+        """Normalised input that gives normalised output ``y``, within the table's levels (0..1), from a 65537-point grid."""
         # Flat stretches are ambiguous; np.interp on a non-decreasing table returns a level inside them.
         dense_x, dense_y = self._dense
         return np.interp(_as_unit(y, "y"), dense_y, dense_x)
