@@ -4,6 +4,11 @@ Linear RGB is the fraction of each primary's full-drive radiance above black (0.
 ``B(λ) + Σ rgb_i·P_i(λ)``, so ``LMS = LMS_black + M_LMS · rgb`` with ``M_LMS``'s columns the cone excitations of
 the primaries, and likewise for CIE 1931 XYZ. Luminance (cd/m²) is ``w_L·L + w_M·M`` with the observer's weights
 (CIE 170-2:2015), which for the Stockman & Sharpe fundamentals is the CIE 2008 physiologically relevant V(λ).
+
+References
+----------
+- CIE 170-2:2015, Fundamental chromaticity diagram with physiological axes – Part 2.
+- CIE 015:2018, Colorimetry (the CIE 1931 standard observer, K_m = 683 lm/W; from memory).
 """
 
 from __future__ import annotations
@@ -11,6 +16,7 @@ from __future__ import annotations
 from functools import cached_property
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
 from ._colour import colour
 from .observers import K_M, Observer
@@ -25,7 +31,7 @@ CHANNELS = ("red", "green", "blue")
 """The display's channels, in the order of every RGB triplet."""
 
 
-def smooth_on_grid(table_wavelengths, table_values, grid) -> np.ndarray:
+def smooth_on_grid(table_wavelengths: ArrayLike, table_values: ArrayLike, grid: ArrayLike) -> NDArray[np.float64]:
     """A smooth tabulated function (cone fundamental, luminous efficiency, CMF) on ``grid``, zero outside its table.
 
     Grid points that are table nodes take the tabulated value exactly; other points are interpolated with Sprague's
@@ -44,8 +50,17 @@ def smooth_on_grid(table_wavelengths, table_values, grid) -> np.ndarray:
 
     Returns
     -------
-    ndarray
-        Shape (G,) or (G, K).
+    ndarray of float64
+        Shape (G,) or (G, K), in the units of ``table_values``; 0 outside the table's range.
+
+    References
+    ----------
+    Sprague, T. B. (1880). J. Inst. Actuaries, 22, 270–285; CIE 167:2005 (both from memory).
+
+    Examples
+    --------
+    >>> smooth_on_grid([400, 405, 410, 415, 420, 425], [0, 1, 4, 9, 16, 25], [395, 405, 420]).tolist()
+    [0.0, 1.0, 16.0]
     """
     table_wavelengths = np.asarray(table_wavelengths, dtype=float)
     values = np.asarray(table_values, dtype=float)
@@ -65,7 +80,7 @@ def smooth_on_grid(table_wavelengths, table_values, grid) -> np.ndarray:
     return out if values.ndim == 2 else out[:, 0]
 
 
-def integration_grid(measured_wavelengths, table_wavelengths) -> tuple[np.ndarray, float]:
+def integration_grid(measured_wavelengths: ArrayLike, table_wavelengths: ArrayLike) -> tuple[NDArray[np.float64], float]:
     """The wavelength grid a measured spectrum is integrated on: the measurement's own samples.
 
     Parameters
@@ -77,7 +92,7 @@ def integration_grid(measured_wavelengths, table_wavelengths) -> tuple[np.ndarra
 
     Returns
     -------
-    grid : ndarray
+    grid : ndarray of float64
         The measured wavelengths inside the table's range, nm.
     step : float
         Grid spacing, nm: the integral is ``step · Σ spectrum · function`` over the grid.
@@ -90,6 +105,12 @@ def integration_grid(measured_wavelengths, table_wavelengths) -> tuple[np.ndarra
     table is summed at its own 5 nm, where the table has nodes. For a smooth spectrum the two agree to about 1e-6
     (``tests/test_display.py``); resampling a 5 nm measurement linearly onto 1 nm instead misses by up to 1 %
     in the spectral tails.
+
+    Examples
+    --------
+    >>> grid, step = integration_grid(np.arange(380.0, 801.0, 5.0), np.arange(390.0, 831.0, 1.0))
+    >>> float(grid[0]), float(grid[-1]), step
+    (390.0, 800.0, 5.0)
     """
     measured = np.asarray(measured_wavelengths, dtype=float)
     table = np.asarray(table_wavelengths, dtype=float)
@@ -97,11 +118,30 @@ def integration_grid(measured_wavelengths, table_wavelengths) -> tuple[np.ndarra
     return measured[keep], float(measured[1] - measured[0])
 
 
-def resample(wavelengths, values, grid) -> np.ndarray:
+def resample(wavelengths: ArrayLike, values: ArrayLike, grid: ArrayLike) -> NDArray[np.float64]:
     """Linear interpolation of spectra onto ``grid``, zero outside the measured range.
 
     Linear rather than Sprague interpolation: measured spectra are noisy, and a higher-order interpolant would
     ring and go negative around narrow emission lines.
+
+    Parameters
+    ----------
+    wavelengths
+        Increasing wavelengths of the spectra, nm, shape (N,).
+    values
+        Spectra, shape (N,) or (N, K) (radiance in W·sr⁻¹·m⁻²·nm⁻¹, say).
+    grid
+        Wavelengths wanted, nm, shape (G,).
+
+    Returns
+    -------
+    ndarray of float64
+        Shape (G,) or (G, K), in the units of ``values``.
+
+    Examples
+    --------
+    >>> resample([400, 410, 420], [0.0, 1.0, 2.0], [405, 415, 425]).tolist()
+    [0.5, 1.5, 0.0]
     """
     values = np.asarray(values, dtype=float)
     columns = values if values.ndim == 2 else values[:, None]
@@ -114,11 +154,21 @@ def _cmfs_1931(grid) -> np.ndarray:
     return smooth_on_grid(cmfs.wavelengths, cmfs.values, grid)
 
 
-def XYZ_to_LMS_matrix(obs: Observer) -> np.ndarray:
+def XYZ_to_LMS_matrix(obs: Observer) -> NDArray[np.float64]:
     """Least-squares 3×3 matrix from CIE 1931 XYZ to the observer's cone excitations.
 
     Fitted over the spectrum so that ``l̄m̄s̄(λ) ≈ T · x̄ȳz̄(λ)``. Only used for profiles given as xyY, where it is
     an approximation (the 1931 observer and the cone fundamentals are not linear transforms of each other).
+
+    Parameters
+    ----------
+    obs
+        The observer whose cone fundamentals are the target.
+
+    Returns
+    -------
+    ndarray of float64, shape (3, 3)
+        ``T`` with ``LMS ≈ T · XYZ``, in the units of the observer's fundamentals.
     """
     xyz = _cmfs_1931(obs.wavelengths)
     solution, *_ = np.linalg.lstsq(xyz, obs.lms, rcond=None)
@@ -150,6 +200,20 @@ class DisplayModel:
     spectra : tuple or None
         ``(wavelengths_nm, radiance (N, 4))`` as measured: red, green, blue above black, and black (W·sr⁻¹·m⁻²·nm⁻¹);
         ``None`` for a profile given as xyY.
+
+    Examples
+    --------
+    A profile given as xyY (sRGB primaries, 100 cd/m² white, a 0.2 cd/m² black; an approximation):
+
+    >>> profile = {"name": "Example", "bits": 8, "sha256": "0" * 64,
+    ...            "transfer": {c: {"model": "power", "parameters": {"gamma": 2.2}} for c in CHANNELS},
+    ...            "primaries": {"kind": "chromaticities", "red": (0.64, 0.33, 21.26), "green": (0.30, 0.60, 71.52),
+    ...                          "blue": (0.15, 0.06, 7.22), "black": (0.3127, 0.3290, 0.2)}}
+    >>> model = DisplayModel(profile)
+    >>> round(float(model.RGB_linear_to_XYZ([1.0, 1.0, 1.0])[1]), 6), model.level_outputs.shape
+    (100.2, (3, 256))
+    >>> np.round(model.LMS_to_RGB_linear(model.RGB_linear_to_LMS([0.5, 0.2, 0.1])), 12).tolist()
+    [0.5, 0.2, 0.1]
     """
 
     def __init__(self, profile: dict, obs: Observer | str = "ss2"):
@@ -183,7 +247,7 @@ class DisplayModel:
             self.M_XYZ, self.XYZ_black = xyz[:3].T, xyz[3]
             self.M_LMS, self.LMS_black = lms[:3].T, lms[3]
 
-    def integrate(self, table_wavelengths, table_values) -> np.ndarray:
+    def integrate(self, table_wavelengths: ArrayLike, table_values: ArrayLike) -> NDArray[np.float64]:
         """``Σ spectrum · function · Δλ`` for each measured spectrum against a tabulated spectral function.
 
         Summed on the measurement's own grid within the table's range (:func:`integration_grid`), the table
@@ -198,7 +262,7 @@ class DisplayModel:
 
         Returns
         -------
-        ndarray
+        ndarray of float64
             Shape (4,) or (4, K): red, green, blue (above black) and black, in radiance units × nm.
 
         Raises
@@ -214,24 +278,50 @@ class DisplayModel:
 
     @cached_property
     def rods(self) -> RodResponse | None:
-        """Rod excitation (scotopic cd/m²) of the primaries and black; ``None`` for a profile given as xyY."""
+        """Rod excitation (scotopic cd/m²) of the primaries and black; ``None`` for a profile given as xyY.
+
+        See :func:`stimlab.colorimetry.rods.rod_response` (CIE 1951 scotopic V′(λ)).
+        """
         return rod_response(self)
 
     # Linear RGB <-> cone excitations and CIE XYZ ------------------------------------------------------------
-    def RGB_linear_to_LMS(self, RGB) -> np.ndarray:
-        """Cone excitations of linear RGB, shape (..., 3)."""
+    def RGB_linear_to_LMS(self, RGB: ArrayLike) -> NDArray[np.float64]:
+        """Cone excitations of linear RGB, ``LMS_black + M_LMS · rgb``.
+
+        Parameters
+        ----------
+        RGB
+            Linear RGB, shape (..., 3), 0..1 in gamut (values outside are extrapolated linearly).
+
+        Returns
+        -------
+        ndarray of float64, shape (..., 3)
+            L, M, S, scaled so that ``w_L·L + w_M·M`` is luminance in cd/m².
+
+        Raises
+        ------
+        ValueError
+            If the shape is not (..., 3) or a value is NaN or infinite (likewise for the conversions below).
+        """
         return as_triplets(RGB, "RGB") @ self.M_LMS.T + self.LMS_black
 
-    def LMS_to_RGB_linear(self, LMS) -> np.ndarray:
-        """Linear RGB that produces the cone excitations ``LMS`` (may lie outside 0..1)."""
+    def LMS_to_RGB_linear(self, LMS: ArrayLike) -> NDArray[np.float64]:
+        """Linear RGB that produces the cone excitations ``LMS``, shape (..., 3) → (..., 3).
+
+        The result may lie outside 0..1 (out of gamut); nothing is clipped.
+        """
         return (as_triplets(LMS, "LMS") - self.LMS_black) @ self.M_LMS_inverse.T
 
-    def RGB_linear_to_XYZ(self, RGB) -> np.ndarray:
-        """CIE 1931 XYZ of linear RGB, Y in cd/m²."""
+    def RGB_linear_to_XYZ(self, RGB: ArrayLike) -> NDArray[np.float64]:
+        """CIE 1931 XYZ of linear RGB (shape (..., 3), 0..1 in gamut), Y in cd/m², shape (..., 3)."""
         return as_triplets(RGB, "RGB") @ self.M_XYZ.T + self.XYZ_black
 
-    def RGB_linear_to_luminance(self, RGB) -> np.ndarray:
-        """Luminance in cd/m² under the observer's V(λ)."""
+    def RGB_linear_to_luminance(self, RGB: ArrayLike) -> NDArray[np.float64]:
+        """Luminance of linear RGB (shape (..., 3)) under the observer's V(λ), ``w_L·L + w_M·M``, cd/m², shape (...).
+
+        For the Stockman & Sharpe observers this is the CIE 2008 V(λ) (CIE 170-2:2015), so it differs slightly
+        from the CIE 1931 Y of :meth:`RGB_linear_to_XYZ`.
+        """
         LMS = self.RGB_linear_to_LMS(RGB)
         return self.observer.w_L * LMS[..., 0] + self.observer.w_M * LMS[..., 1]
 
@@ -245,7 +335,7 @@ class DisplayModel:
         """Luminance of all-zero drive, cd/m²."""
         return float(self.RGB_linear_to_luminance(np.zeros(3)))
 
-    def primaries_xy(self) -> np.ndarray:
-        """CIE 1931 xy chromaticity of each primary (rows red, green, blue)."""
+    def primaries_xy(self) -> NDArray[np.float64]:
+        """CIE 1931 xy chromaticity of each primary above black, shape (3, 2), rows red, green, blue, each 0..1."""
         return np.array([colour.XYZ_to_xy(self.M_XYZ[:, i]) for i in range(3)])
 

@@ -16,6 +16,7 @@ References
 from __future__ import annotations
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
 __all__ = [
     "as_triplets",
@@ -30,9 +31,30 @@ __all__ = [
 ]
 
 
+def as_triplets(values: ArrayLike, name: str) -> NDArray[np.float64]:
+    """Check and convert colour triplets: a float array of shape (..., 3) with no NaN or infinity.
 
-def as_triplets(values, name: str) -> np.ndarray:
-    """``values`` as a float array of shape (..., 3), refusing NaN and infinity with ``name`` in the message."""
+    Parameters
+    ----------
+    values
+        Any array-like with 3 in its last axis (cone excitations, linear RGB, coordinates of one space).
+    name
+        What to call ``values`` in an error message.
+
+    Returns
+    -------
+    ndarray of float64, shape (..., 3)
+
+    Raises
+    ------
+    ValueError
+        If the last axis is not 3 long, or a value is NaN or infinite; the message names ``name``.
+
+    Examples
+    --------
+    >>> as_triplets([1, 2, 3], "LMS").tolist()
+    [1.0, 2.0, 3.0]
+    """
     values = np.asarray(values, dtype=float)
     if values.shape[-1:] != (3,):
         raise ValueError(f"{name} must have shape (..., 3), got {values.shape}")
@@ -41,7 +63,7 @@ def as_triplets(values, name: str) -> np.ndarray:
     return values
 
 
-def _background(LMS_0) -> np.ndarray:
+def _background(LMS_0: ArrayLike) -> NDArray[np.float64]:
     LMS_0 = as_triplets(LMS_0, "LMS_0")
     if LMS_0.ndim != 1:
         raise ValueError(f"LMS_0 must be one background of shape (3,), got {LMS_0.shape}")
@@ -50,15 +72,34 @@ def _background(LMS_0) -> np.ndarray:
     return LMS_0
 
 
-def LMS_to_cone_contrast(LMS, LMS_0) -> np.ndarray:
-    """Cone contrast ``(LMS − LMS_0) / LMS_0``.
+def LMS_to_cone_contrast(LMS: ArrayLike, LMS_0: ArrayLike) -> NDArray[np.float64]:
+    """Cone contrast against the background, ``(LMS − LMS_0) / LMS_0`` in each cone class.
 
     Parameters
     ----------
     LMS
-        Cone excitations, shape (..., 3).
+        Cone excitations, shape (..., 3), in the units of ``LMS_0`` (stimlab scales them so that
+        ``w_L·L + w_M·M`` is luminance in cd/m²).
     LMS_0
         Background cone excitations, shape (3,), all > 0.
+
+    Returns
+    -------
+    ndarray of float64, shape (..., 3)
+        Cone contrast (dimensionless, 0 at the background, −1 at no excitation), L, M, S.
+
+    Raises
+    ------
+    ValueError
+        If a value is NaN or infinite, a shape is wrong, or a background excitation is 0 or negative.
+
+    Notes
+    -----
+    Domain: LMS ≥ 0 for real lights (not enforced). Range: (−1, ∞) for real lights.
+
+    References
+    ----------
+    Brainard, D. H. (1996). Cone contrast and opponent modulation color spaces. In Human Color Vision (2nd ed.).
 
     Examples
     --------
@@ -69,30 +110,70 @@ def LMS_to_cone_contrast(LMS, LMS_0) -> np.ndarray:
     return (as_triplets(LMS, "LMS") - LMS_0) / LMS_0
 
 
-def cone_contrast_to_LMS(contrast, LMS_0) -> np.ndarray:
-    """Cone excitations from cone contrast, ``LMS_0 · (1 + c)``."""
+def cone_contrast_to_LMS(contrast: ArrayLike, LMS_0: ArrayLike) -> NDArray[np.float64]:
+    """Cone excitations of a cone contrast against the background, ``LMS_0 · (1 + c)``.
+
+    Parameters
+    ----------
+    contrast
+        Cone contrast, shape (..., 3), L, M, S; above −1 for a real light.
+    LMS_0
+        Background cone excitations, shape (3,), all > 0.
+
+    Returns
+    -------
+    ndarray of float64, shape (..., 3)
+        Cone excitations in the units of ``LMS_0``; the inverse of :func:`LMS_to_cone_contrast`.
+
+    Raises
+    ------
+    ValueError
+        If a value is NaN or infinite, a shape is wrong, or a background excitation is 0 or negative.
+
+    Examples
+    --------
+    >>> np.round(cone_contrast_to_LMS([0.1, -0.1, 0.0], [2.0, 1.0, 0.5]), 12).tolist()
+    [2.2, 0.9, 0.5]
+    """
     LMS_0 = _background(LMS_0)
     return LMS_0 * (1.0 + as_triplets(contrast, "cone contrast"))
 
 
-def matrix_DKL_directions(LMS_0, w_L: float, w_M: float, limits=None) -> np.ndarray:
+def matrix_DKL_directions(LMS_0: ArrayLike, w_L: float, w_M: float,
+                          limits: ArrayLike | None = None) -> NDArray[np.float64]:
     """Matrix ``D`` whose columns are the unit DKL directions in ΔLMS: ``ΔLMS = D · (lum, lm, s)``.
 
     Parameters
     ----------
     LMS_0
-        Background cone excitations, shape (3,).
+        Background cone excitations, shape (3,), all > 0.
     w_L, w_M
-        The observer's luminance weights.
+        The observer's luminance weights (luminance in cd/m² is ``w_L·L + w_M·M``), > 0.
     limits
         ``None`` for Brainard's normalisation (each unit direction has pooled cone contrast 1); otherwise the
-        largest in-gamut scale of each pooled-unit direction, shape (3,), which makes 1 the display's maximum
-        along each positive axis ("display_maximum").
+        largest in-gamut scale of each pooled-unit direction, shape (3,), all > 0, which makes 1 the display's
+        maximum along each positive axis ("display_maximum").
+
+    Returns
+    -------
+    ndarray of float64, shape (3, 3)
+        Columns: ΔLMS of a unit step along lum, L−M and S, in the units of ``LMS_0``.
+
+    Raises
+    ------
+    ValueError
+        For a bad background or ``limits`` that are not three finite positive numbers.
 
     Notes
     -----
     Isolating directions: luminance ∝ LMS_0; L−M ∝ (w_M, −w_L, 0), which leaves luminance and S unchanged;
-    S ∝ (0, 0, 1). Signs: +L−M raises L (reddish), +S raises S (violet), +lum raises luminance.
+    S ∝ (0, 0, 1). Signs: +L−M raises L (reddish), +S raises S (violet), +lum raises luminance. Pooled cone
+    contrast is ``√(c_L² + c_M² + c_S²)``.
+
+    References
+    ----------
+    Derrington, A. M., Krauskopf, J., & Lennie, P. (1984). J. Physiol., 357, 241–265 (the axes).
+    Brainard, D. H. (1996), in Human Color Vision (2nd ed.), 563–579 (the construction and the normalisation).
 
     Examples
     --------
@@ -112,12 +193,40 @@ def matrix_DKL_directions(LMS_0, w_L: float, w_M: float, limits=None) -> np.ndar
     return D
 
 
-def matrix_DKL_mechanisms(LMS_0, w_L: float, w_M: float, limits=None) -> np.ndarray:
+def matrix_DKL_mechanisms(LMS_0: ArrayLike, w_L: float, w_M: float,
+                          limits: ArrayLike | None = None) -> NDArray[np.float64]:
     """Mechanism rows on ΔLMS, each reading 1 on its own unit direction: ``(lum, lm, s) = R · ΔLMS``.
 
+    Parameters
+    ----------
+    LMS_0, w_L, w_M, limits
+        As for :func:`matrix_DKL_directions`.
+
+    Returns
+    -------
+    ndarray of float64, shape (3, 3)
+        Rows: the luminance, L−M and S−(L+M) mechanisms; ``R = D⁻¹``.
+
+    Raises
+    ------
+    ValueError
+        As for :func:`matrix_DKL_directions`.
+
+    Notes
+    -----
     Rows before scaling: luminance ``(w_L, w_M, 0)``; L−M ``(1, −L_0/M_0, 0)``; S−(L+M)
     ``(−w_L·S_0/V_0, −w_M·S_0/V_0, 1)`` with ``V_0 = w_L·L_0 + w_M·M_0``. Each row is zero on the other two
     isolating directions, so ``R = D⁻¹``.
+
+    References
+    ----------
+    Derrington, Krauskopf & Lennie (1984); Brainard (1996).
+
+    Examples
+    --------
+    >>> R = matrix_DKL_mechanisms([1.0, 1.0, 1.0], 0.5, 0.5)
+    >>> np.round(R @ matrix_DKL_directions([1.0, 1.0, 1.0], 0.5, 0.5), 12).tolist()
+    [[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]]
     """
     LMS_0 = _background(LMS_0)
     L_0, M_0, S_0 = LMS_0
@@ -127,30 +236,113 @@ def matrix_DKL_mechanisms(LMS_0, w_L: float, w_M: float, limits=None) -> np.ndar
     return rows / np.einsum("ij,ji->i", rows, D)[:, None]
 
 
-def LMS_to_DKL(LMS, LMS_0, w_L: float, w_M: float, limits=None) -> np.ndarray:
+def LMS_to_DKL(LMS: ArrayLike, LMS_0: ArrayLike, w_L: float, w_M: float,
+               limits: ArrayLike | None = None) -> NDArray[np.float64]:
     """DKL coordinates ``(lum, lm, s)`` of cone excitations relative to the background.
+
+    Parameters
+    ----------
+    LMS
+        Cone excitations, shape (..., 3), in the units of ``LMS_0``.
+    LMS_0, w_L, w_M, limits
+        As for :func:`matrix_DKL_directions`.
+
+    Returns
+    -------
+    ndarray of float64, shape (..., 3)
+        Lum, L−M, S: pooled cone contrast along each axis with ``limits=None``; fractions of the display maximum
+        along each positive axis otherwise. 0 at the background.
+
+    Raises
+    ------
+    ValueError
+        If a value is NaN or infinite, a shape is wrong, or the background or limits are invalid.
+
+    References
+    ----------
+    Derrington, Krauskopf & Lennie (1984); Brainard (1996).
 
     Examples
     --------
     >>> np.round(LMS_to_DKL([1.1, 1.1, 1.1], [1.0, 1.0, 1.0], 0.5, 0.5), 6).tolist()
     [0.173205, -0.0, 0.0]
+
+    A 10 % step in every cone class has pooled cone contrast √3 · 0.1 and lies along the luminance axis.
     """
     LMS_0 = _background(LMS_0)
     R = matrix_DKL_mechanisms(LMS_0, w_L, w_M, limits)
     return (as_triplets(LMS, "LMS") - LMS_0) @ R.T
 
 
-def DKL_to_LMS(DKL, LMS_0, w_L: float, w_M: float, limits=None) -> np.ndarray:
-    """Cone excitations of DKL coordinates ``(lum, lm, s)`` relative to the background."""
+def DKL_to_LMS(DKL: ArrayLike, LMS_0: ArrayLike, w_L: float, w_M: float,
+               limits: ArrayLike | None = None) -> NDArray[np.float64]:
+    """Cone excitations of DKL coordinates ``(lum, lm, s)`` relative to the background.
+
+    Parameters
+    ----------
+    DKL
+        Lum, L−M, S, shape (..., 3): pooled cone contrast with ``limits=None``, fractions of the display maximum
+        otherwise.
+    LMS_0, w_L, w_M, limits
+        As for :func:`matrix_DKL_directions`.
+
+    Returns
+    -------
+    ndarray of float64, shape (..., 3)
+        Cone excitations in the units of ``LMS_0``; the inverse of :func:`LMS_to_DKL`. Large coordinates can
+        give negative excitations, which no light has.
+
+    Raises
+    ------
+    ValueError
+        If a value is NaN or infinite, a shape is wrong, or the background or limits are invalid.
+
+    References
+    ----------
+    Derrington, Krauskopf & Lennie (1984); Brainard (1996).
+
+    Examples
+    --------
+    >>> np.round(DKL_to_LMS([0.0, 0.0, 0.2], [1.0, 1.0, 1.0], 0.5, 0.5), 12).tolist()
+    [1.0, 1.0, 1.2]
+    """
     LMS_0 = _background(LMS_0)
     D = matrix_DKL_directions(LMS_0, w_L, w_M, limits)
     return LMS_0 + as_triplets(DKL, "DKL") @ D.T
 
 
-def LMS_to_MacLeod_Boynton(LMS, w_L: float, w_M: float, k_S: float) -> np.ndarray:
+def LMS_to_MacLeod_Boynton(LMS: ArrayLike, w_L: float, w_M: float, k_S: float) -> NDArray[np.float64]:
     """MacLeod–Boynton ``(l, s, luminance)``: ``l = w_L·L/V``, ``s = k_S·S/V``, ``V = w_L·L + w_M·M``.
 
-    With stimlab's cone scaling, V is luminance in cd/m².
+    Parameters
+    ----------
+    LMS
+        Cone excitations, shape (..., 3), scaled so that ``w_L·L + w_M·M`` is luminance in cd/m².
+    w_L, w_M
+        The observer's luminance weights, > 0.
+    k_S
+        The observer's S scaling, > 0 (:class:`stimlab.colorimetry.observers.Observer`).
+
+    Returns
+    -------
+    ndarray of float64, shape (..., 3)
+        l (0..1 for real lights), s (≥ 0; 1 at the spectrum's peak of S/V) and luminance V in cd/m².
+
+    Raises
+    ------
+    ValueError
+        If a value is NaN or infinite, the shape is wrong, or a luminance is 0 or negative (chromaticity is
+        undefined there).
+
+    Notes
+    -----
+    With stimlab's cone scaling, V is luminance in cd/m² and ``l + m = 1``.
+
+    References
+    ----------
+    MacLeod, D. I. A., & Boynton, R. M. (1979). Chromaticity diagram showing cone excitation by stimuli of equal
+    luminance. JOSA, 69, 1183–1186. CIE 170-2:2015 (the cone-fundamental-based MacLeod–Boynton diagram and its
+    scaling).
 
     Examples
     --------
@@ -164,8 +356,35 @@ def LMS_to_MacLeod_Boynton(LMS, w_L: float, w_M: float, k_S: float) -> np.ndarra
     return np.stack([w_L * LMS[..., 0] / V, k_S * LMS[..., 2] / V, V], axis=-1)
 
 
-def MacLeod_Boynton_to_LMS(lsV, w_L: float, w_M: float, k_S: float) -> np.ndarray:
-    """Cone excitations from MacLeod–Boynton ``(l, s, luminance)``."""
+def MacLeod_Boynton_to_LMS(lsV: ArrayLike, w_L: float, w_M: float, k_S: float) -> NDArray[np.float64]:
+    """Cone excitations of MacLeod–Boynton ``(l, s, luminance)``.
+
+    Parameters
+    ----------
+    lsV
+        l (0..1), s (≥ 0) and luminance V (cd/m², > 0), shape (..., 3).
+    w_L, w_M, k_S
+        As for :func:`LMS_to_MacLeod_Boynton`.
+
+    Returns
+    -------
+    ndarray of float64, shape (..., 3)
+        L, M, S; the inverse of :func:`LMS_to_MacLeod_Boynton`.
+
+    Raises
+    ------
+    ValueError
+        If a value is NaN or infinite, the shape is wrong, or a luminance is 0 or negative.
+
+    References
+    ----------
+    MacLeod & Boynton (1979); CIE 170-2:2015.
+
+    Examples
+    --------
+    >>> np.round(MacLeod_Boynton_to_LMS([0.79844, 0.00215, 8.640637], 0.68990272, 0.34832189, 0.0371598), 3).tolist()
+    [10.0, 5.0, 0.5]
+    """
     lsV = as_triplets(lsV, "MacLeod–Boynton (l, s, luminance)")
     l, s, V = lsV[..., 0], lsV[..., 1], lsV[..., 2]
     if np.any(V <= 0):

@@ -3,11 +3,25 @@
 This is the hub the command line, the web app and the protocol compiler share, so a colour reads the same
 everywhere: :class:`Background` fixes the adapting point, :meth:`Background.colour_to_LMS` turns a colour given
 in any supported space into cone excitations, and :meth:`Background.describe` reports it in all of them.
+
+Notes
+-----
+=======================  ============================================================  =====================
+Space                    Coordinates                                                   Relative to
+=======================  ============================================================  =====================
+``cone_contrast``        L, M, S contrast, above −1                                    the background
+``dkl``                  lum, L−M, S in pooled cone contrast (Brainard 1996)           the background
+``dkl_display_maximum``  lum, L−M, S as fractions of the gamut edge along each + axis  the background, gamut
+``macleod_boynton``      l (0..1), s (≥ 0), luminance (cd/m²) (CIE 170-2:2015)         —
+``lms``                  cone excitations, ``w_L·L + w_M·M`` in cd/m²                  —
+``rgb_linear``           fraction of each primary's full drive above black, 0..1       —
+=======================  ============================================================  =====================
 """
 
 from __future__ import annotations
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
 from ..errors import InputError
 from ._colour import colour
@@ -51,9 +65,14 @@ class Background:
     model
         The display seen by the observer.
     RGB_0
-        Background linear RGB, shape (3,), inside the gamut.
+        Background linear RGB, shape (3,), each 0..1.
     field
         Name to use in error messages for where the background came from.
+
+    Raises
+    ------
+    InputError
+        If ``RGB_0`` is not three finite numbers or lies outside 0..1 (naming ``field``).
 
     Attributes
     ----------
@@ -63,9 +82,26 @@ class Background:
     blocked_DKL_axes : tuple of int
         Axes whose positive limit is 0: the background sits on the gamut's edge there (a channel at 0 or full
         drive), so "fraction of the display maximum" is undefined along them (:meth:`display_maximum_note`).
+    LMS_0 : ndarray (3,)
+        Background cone excitations. ``D`` : ndarray (3, 3), the DKL unit directions in ΔLMS (columns).
+
+    Examples
+    --------
+    >>> from stimlab.colorimetry.display import CHANNELS, DisplayModel
+    >>> profile = {"name": "Example", "bits": 8, "sha256": "0" * 64,
+    ...            "transfer": {c: {"model": "power", "parameters": {"gamma": 2.2}} for c in CHANNELS},
+    ...            "primaries": {"kind": "chromaticities", "red": (0.64, 0.33, 21.26), "green": (0.30, 0.60, 71.52),
+    ...                          "blue": (0.15, 0.06, 7.22), "black": (0.3127, 0.3290, 0.2)}}
+    >>> background = Background(DisplayModel(profile), [0.5, 0.5, 0.5])
+    >>> background.to_device("cone_contrast", [0.1, 0.1, 0.1]).tolist()  # 10 % brighter than mid-grey
+    [194, 194, 194]
+    >>> np.round(background.to_RGB_linear("dkl_display_maximum", [0.5, 0.0, 0.0]), 4).tolist()
+    [0.75, 0.75, 0.75]
+    >>> np.round(background.LMS_to_space("cone_contrast", background.colour_to_LMS("dkl", [0.1, 0, 0])), 6).tolist()
+    [0.057735, 0.057735, 0.057735]
     """
 
-    def __init__(self, model: DisplayModel, RGB_0, field: str = "background"):
+    def __init__(self, model: DisplayModel, RGB_0: ArrayLike, field: str = "background"):
         RGB_0 = np.asarray(RGB_0, dtype=float)
         if RGB_0.shape != (3,) or not np.all(np.isfinite(RGB_0)):
             raise InputError("background must be three finite numbers", field=field)
@@ -81,14 +117,27 @@ class Background:
         self.blocked_DKL_axes = tuple(int(a) for a in np.flatnonzero(self.DKL_limits[:, 1] <= _BLOCKED_SCALE))
 
     @classmethod
-    def from_LMS(cls, model: DisplayModel, LMS_0, field: str = "background") -> "Background":
-        """The background with cone excitations ``LMS_0``."""
+    def from_LMS(cls, model: DisplayModel, LMS_0: ArrayLike, field: str = "background") -> "Background":
+        """The background with cone excitations ``LMS_0`` (shape (3,)); raises InputError if out of gamut."""
         return cls(model, model.LMS_to_RGB_linear(LMS_0), field)
 
     @classmethod
     def from_MacLeod_Boynton(cls, model: DisplayModel, l: float, s: float, luminance: float,
                              field: str = "background") -> "Background":
-        """The background at MacLeod–Boynton ``(l, s)`` and luminance (cd/m²)."""
+        """The background at MacLeod–Boynton ``(l, s)`` and luminance.
+
+        Parameters
+        ----------
+        model, field
+            As for :class:`Background`.
+        l, s, luminance
+            MacLeod–Boynton chromaticity (CIE 170-2:2015 scaling: l in 0..1, s ≥ 0) and luminance in cd/m², > 0.
+
+        Raises
+        ------
+        InputError
+            For a non-positive luminance or a colour outside the display's gamut, naming ``field``.
+        """
         obs = model.observer
         try:
             LMS = MacLeod_Boynton_to_LMS([l, s, luminance], obs.w_L, obs.w_M, obs.k_S)
@@ -159,18 +208,52 @@ class Background:
         return ("the background lies on the gamut's edge along " + ", ".join(parts)
                 + ": the display maximum there is 0, so the fraction of it is undefined")
 
-    def colour_to_LMS(self, space: str, values) -> np.ndarray:
-        """Cone excitations of a colour given in ``space`` (one of :data:`COLOUR_SPACES`), shape (..., 3)."""
+    def colour_to_LMS(self, space: str, values: ArrayLike) -> NDArray[np.float64]:
+        """Cone excitations of colours given in ``space``.
+
+        Parameters
+        ----------
+        space
+            One of :data:`COLOUR_SPACES` (units in the module's Notes).
+        values
+            Coordinates in ``space``, shape (..., 3).
+
+        Returns
+        -------
+        ndarray of float64, shape (..., 3)
+            L, M, S, scaled so that ``w_L·L + w_M·M`` is luminance in cd/m².
+
+        Raises
+        ------
+        ValueError
+            For an unknown space (listing the valid ones), NaN or infinity, a bad shape, or a non-zero
+            ``dkl_display_maximum`` coordinate along a blocked axis.
+        """
         return self._conversions(space)[0](values)
 
-    def LMS_to_space(self, space: str, LMS) -> np.ndarray:
-        """A colour's coordinates in ``space``, the inverse of :meth:`colour_to_LMS`."""
+    def LMS_to_space(self, space: str, LMS: ArrayLike) -> NDArray[np.float64]:
+        """Coordinates in ``space`` of cone excitations ``LMS`` (shape (..., 3)), the inverse of :meth:`colour_to_LMS`.
+
+        ``dkl_display_maximum`` is NaN along blocked axes, where it is undefined.
+        """
         return self._conversions(space)[1](LMS)
 
-    def affine_to_RGB_linear(self, space: str) -> tuple[np.ndarray, np.ndarray]:
+    def affine_to_RGB_linear(self, space: str) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
         """``(A, b)`` with ``RGB = values @ A.T + b`` for the spaces linear in cone excitations.
 
         Composing the chain into one affine map makes whole images cheap: one matrix product per pixel.
+
+        Returns
+        -------
+        A : ndarray of float64, shape (3, 3)
+            Linear RGB per unit of each coordinate of ``space``.
+        b : ndarray of float64, shape (3,)
+            Linear RGB of the zero coordinates (the background for the relative spaces).
+
+        Raises
+        ------
+        ValueError
+            For ``macleod_boynton`` (not linear in cone excitations) or an unknown space.
         """
         M_inverse = self.model.M_LMS_inverse
         if space == "dkl":
@@ -186,8 +269,12 @@ class Background:
             return np.eye(3), np.zeros(3)
         raise ValueError(f"{space!r} is not linear in cone excitations; use colour_to_LMS")
 
-    def to_RGB_linear(self, space: str, values) -> np.ndarray:
-        """Linear RGB of colours given in ``space``, shape (..., 3); may lie outside 0..1."""
+    def to_RGB_linear(self, space: str, values: ArrayLike) -> NDArray[np.float64]:
+        """Linear RGB of colours given in ``space`` (shape (..., 3)), shape (..., 3); may lie outside 0..1.
+
+        Nothing is clipped: check with :func:`stimlab.colorimetry.device.is_within_gamut`. Raises ValueError as
+        :meth:`colour_to_LMS`.
+        """
         if space == "macleod_boynton":
             return self.model.LMS_to_RGB_linear(self.colour_to_LMS(space, values))
         if space == "dkl_display_maximum":
@@ -197,13 +284,23 @@ class Background:
         RGB += b
         return RGB
 
-    def to_device(self, space: str, values) -> np.ndarray:
-        """Digital levels of colours given in ``space``, shape (..., 3).
+    def to_device(self, space: str, values: ArrayLike) -> NDArray[np.int_]:
+        """Device levels of colours given in ``space``.
+
+        Parameters
+        ----------
+        space, values
+            As for :meth:`colour_to_LMS`.
+
+        Returns
+        -------
+        ndarray of int, shape (..., 3)
+            Device levels, 0..2^bits − 1, through the inverse of each channel's transfer model.
 
         Raises
         ------
         ValueError
-            If any colour lies outside the gamut: nothing is clipped here.
+            If any colour lies outside the gamut (nothing is clipped here), or as :meth:`colour_to_LMS`.
         """
         if space == "macleod_boynton":
             return RGB_linear_to_device(self.to_RGB_linear(space, values), self.model.level_outputs)
@@ -215,12 +312,17 @@ class Background:
         RGB += b[:, None]
         return channel_first_to_device(RGB, self.model.level_outputs).reshape(values.shape)
 
-    def max_scale(self, LMS) -> tuple[np.ndarray, np.ndarray]:
-        """How far each colour's direction from the background can be scaled in gamut, and the limiting channel."""
+    def max_scale(self, LMS: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.int_]]:
+        """In-gamut scale of each colour's difference from the background, and the limiting channel.
+
+        ``LMS`` has shape (..., 3); the scale (≥ 0, ``inf`` for the background itself) is ≥ 1 exactly for colours
+        in gamut, and the channel is 0, 1, 2 for red, green, blue (−1 for none): see
+        :func:`stimlab.colorimetry.gamut.scale_limit`.
+        """
         delta_RGB = self.model.LMS_to_RGB_linear(LMS) - self.RGB_0
         return scale_limit(self.RGB_0, delta_RGB)
 
-    def rods(self, RGB) -> dict:
+    def rods(self, RGB: ArrayLike) -> dict:
         """Rod contrast against this background and scotopic luminance of linear RGB ``RGB`` (shape (3,)).
 
         Returns
@@ -229,6 +331,11 @@ class Background:
             ``rod_contrast`` (dimensionless), ``scotopic_luminance_cd_m2`` (scotopic cd/m²) and
             ``background_scotopic_luminance_cd_m2``, each ``None`` with the reason in ``rods_note`` for a profile
             given as xyY (rod excitation needs spectra and is never guessed).
+
+        Raises
+        ------
+        ValueError
+            If the background's scotopic luminance (CIE 1951 V′(λ), :mod:`~stimlab.colorimetry.rods`) is 0.
         """
         rods = self.model.rods
         if rods is None:
@@ -239,10 +346,22 @@ class Background:
                 "background_scotopic_luminance_cd_m2": float(rods.scotopic_luminance(self.RGB_0)),
                 "rods_note": None}
 
-    def describe(self, LMS) -> dict:
+    def describe(self, LMS: ArrayLike) -> dict:
         """One colour in every space, with its device levels, gamut verdict and quantisation grain.
 
-        Returns a JSON-able dict (keys as the ``stimlab convert --json`` contract).
+        Parameters
+        ----------
+        LMS
+            Cone excitations of one colour, shape (3,).
+
+        Returns
+        -------
+        dict
+            JSON-able, keys as the ``stimlab convert --json`` contract: every space of :data:`COLOUR_SPACES`,
+            ``luminance_cd_m2``, CIE ``xyY`` (Y in cd/m²) and ``lab`` (white = full drive), ``rgb_device`` (device
+            levels, ``None`` out of gamut), ``out_of_gamut`` (how far each offending channel lies outside 0..1),
+            ``quantisation_cone_contrast`` (one device level in cone contrast), ``max_scale_in_gamut``,
+            ``limiting_channel``, the display and observer, and the rod figures of :meth:`rods`.
         """
         model, obs = self.model, self.model.observer
         LMS = np.asarray(LMS, dtype=float)

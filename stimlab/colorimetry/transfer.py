@@ -3,20 +3,17 @@
 Input ``x = d / d_max`` for digital level ``d``; output ``y`` is the fraction of the channel's full-drive
 radiance above black, so ``y(0) = 0`` and ``y(1) = 1`` for every model fitted to measurements.
 
-Notes
------
-============  ==============  =========
-Quantity      Domain          Range
-============  ==============  =========
-``x``         [0, 1]          —
-``y``         —               [0, 1]
-============  ==============  =========
+Every model has ``forward(x) -> y`` and ``inverse(y) -> x`` on float arrays of any shape (x and y in 0..1; both
+refuse NaN and infinity with a ValueError), ``parameters()`` as saved in a profile, and a ``fit`` classmethod
+taking the arguments of :func:`fit_transfer`.
 
 References
 ----------
 - Berns, R. S., Motta, R. J., & Gorzynski, M. E. (1993). CRT colorimetry. Part I: Theory and practice.
   Color Research & Application, 18(5), 299–314 (the gain-offset-gamma model).
 - Berns, R. S. (1996). Methods for characterizing CRT displays. Displays, 16(4), 173–182.
+- Fritsch, F. N., & Carlson, R. E. (1980). Monotone piecewise cubic interpolation. SIAM J. Numer. Anal., 17(2),
+  238–246 (:class:`TableTransfer`).
 - IEC 61966-2-1:1999, the sRGB transfer curve (:func:`sRGB_decode`, used in checks).
 """
 
@@ -25,6 +22,7 @@ from __future__ import annotations
 import dataclasses
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 from scipy.interpolate import PchipInterpolator
 from scipy.optimize import least_squares
 
@@ -52,7 +50,8 @@ READING_FLOOR_CD_M2 = 0.002
 weights finite where the reading is near zero (a display with a very dark black)."""
 
 
-def reading_sigma(luminance, relative: float = READING_RELATIVE_ERROR, floor: float = READING_FLOOR_CD_M2):
+def reading_sigma(luminance: ArrayLike, relative: float = READING_RELATIVE_ERROR,
+                  floor: float = READING_FLOOR_CD_M2) -> NDArray[np.float64]:
     """Standard error of each luminance reading under the fit's noise model, ``relative·|L| + floor``.
 
     Parameters
@@ -66,8 +65,13 @@ def reading_sigma(luminance, relative: float = READING_RELATIVE_ERROR, floor: fl
 
     Returns
     -------
-    ndarray
-        cd/m², the shape of ``luminance``.
+    ndarray of float64
+        cd/m², > 0, the shape of ``luminance``.
+
+    Raises
+    ------
+    ValueError
+        If ``relative`` or ``floor`` is negative, or both are 0.
 
     Examples
     --------
@@ -100,7 +104,12 @@ def _as_unit(values, name: str) -> np.ndarray:
 
 @dataclasses.dataclass(frozen=True)
 class PowerTransfer:
-    """``y = x^γ``.
+    """The power law ``y = x^γ``, black at 0: for displays whose black is negligible.
+
+    Parameters
+    ----------
+    gamma
+        Exponent γ, > 0 (fits are bounded to 0.1..10; 2.2 is typical of a desktop display, common practice).
 
     Examples
     --------
@@ -111,18 +120,24 @@ class PowerTransfer:
     gamma: float
     name = "power"
 
-    def forward(self, x):
+    def forward(self, x: ArrayLike) -> NDArray[np.float64]:
+        """Normalised output ``y = x^γ`` (0..1) of normalised input ``x = d / d_max`` (0..1, negatives read as 0)."""
         return np.power(np.clip(_as_unit(x, "x"), 0.0, None), self.gamma)
 
-    def inverse(self, y):
+    def inverse(self, y: ArrayLike) -> NDArray[np.float64]:
+        """Normalised input that gives normalised output ``y`` (0..1), ``x = y^(1/γ)``, 0..1."""
         return np.power(np.clip(_as_unit(y, "y"), 0.0, None), 1.0 / self.gamma)
 
     def parameters(self) -> dict:
+        """The parameters as saved in a profile, ``{"gamma": γ}``."""
         return {"gamma": self.gamma}
 
     @classmethod
-    def fit(cls, x, y, sigma=None) -> "PowerTransfer":
-        """Weighted least squares (weights ``1/sigma``) of ``y`` against ``x^γ``."""
+    def fit(cls, x: NDArray[np.float64], y: NDArray[np.float64], sigma: ArrayLike | None = None) -> "PowerTransfer":
+        """Weighted least squares (weights ``1/sigma``) of ``y`` against ``x^γ``; arguments as :func:`fit_transfer`.
+
+        Needs a level strictly between 0 and full drive with a positive output, or raises ValueError.
+        """
         keep = (x > 0) & (y > 0) & (x < 1)
         if keep.sum() < 1:
             raise ValueError("the power model needs at least one level strictly between 0 and full drive")
@@ -134,6 +149,18 @@ class PowerTransfer:
 @dataclasses.dataclass(frozen=True)
 class GainOffsetGammaTransfer:
     """Gain-offset-gamma: ``y = max(gain·x + offset, 0)^γ`` with ``gain + offset = 1`` so that ``y(1) = 1``.
+
+    Parameters
+    ----------
+    gain, offset
+        Gain, > 0 (fits are bounded to 0.5..2), and ``offset = 1 − gain``; above gain 1 the output stays 0 up to
+        ``x = −offset/gain``.
+    gamma
+        Exponent γ, > 0 (fits are bounded to 0.1..10).
+
+    References
+    ----------
+    Berns, Motta & Gorzynski (1993); Berns (1996).
 
     Examples
     --------
@@ -147,20 +174,24 @@ class GainOffsetGammaTransfer:
     gamma: float
     name = "gog"
 
-    def forward(self, x):
+    def forward(self, x: ArrayLike) -> NDArray[np.float64]:
+        """Normalised output (0..1) of normalised input ``x = d / d_max`` (0..1, negatives read as 0)."""
         base = self.gain * np.clip(_as_unit(x, "x"), 0.0, None) + self.offset
         return np.power(np.clip(base, 0.0, None), self.gamma)
 
-    def inverse(self, y):
+    def inverse(self, y: ArrayLike) -> NDArray[np.float64]:
+        """Normalised input (≥ 0) that gives normalised output ``y`` (0..1)."""
         base = np.power(np.clip(_as_unit(y, "y"), 0.0, None), 1.0 / self.gamma)
         # Where the model is cut off at zero (x below -offset/gain) every x gives y = 0; take the largest.
         return np.clip((base - self.offset) / self.gain, 0.0, None)
 
     def parameters(self) -> dict:
+        """The parameters as saved in a profile, ``{"gain", "offset", "gamma"}``."""
         return {"gain": self.gain, "offset": self.offset, "gamma": self.gamma}
 
     @classmethod
-    def fit(cls, x, y, sigma=None) -> "GainOffsetGammaTransfer":
+    def fit(cls, x: NDArray[np.float64], y: NDArray[np.float64],
+            sigma: ArrayLike | None = None) -> "GainOffsetGammaTransfer":
         """Fit gain and γ by weighted least squares, with a free black level and a free amplitude.
 
         The data are modelled as ``y_i ≈ c + s · max(gain·x_i + 1 − gain, 0)^γ`` and each residual is divided by
@@ -184,6 +215,11 @@ class GainOffsetGammaTransfer:
             Normalised output, fraction of the full-drive reading above the level-0 reading.
         sigma
             Standard error of each ``y`` (normalised units); ``None`` assumes 0.3 % of the value plus 1e-4.
+
+        Raises
+        ------
+        ValueError
+            With fewer than three levels, or a ``sigma`` that is not finite and positive.
 
         References
         ----------
@@ -211,9 +247,24 @@ class GainOffsetGammaTransfer:
 class TableTransfer:
     """Monotone curve through measured points ``(x_i, y_i)``: piecewise-cubic Hermite (Fritsch–Carlson, PCHIP).
 
+    Parameters
+    ----------
+    x, y
+        Normalised levels ``d / d_max`` (strictly increasing, at least two; 0 and 1 for a measured channel) and
+        the normalised outputs at them (non-decreasing, 0..1).
+
+    Raises
+    ------
+    ValueError
+        If the counts differ or are below two, the levels do not increase, or the outputs decrease.
+
     It passes through every measured point and never reverses direction between them. Piecewise-linear
     interpolation would be simpler but bends too late near black: through the sRGB curve sampled at 18 levels it
     misses by over one digital level, the cubic by under 0.3 (``tests/test_transfer.py``).
+
+    References
+    ----------
+    Fritsch & Carlson (1980), through scipy's PchipInterpolator.
 
     Examples
     --------
@@ -241,20 +292,23 @@ class TableTransfer:
         object.__setattr__(self, "_curve", curve)
         object.__setattr__(self, "_dense", (dense_x, curve(dense_x)))
 
-    def forward(self, x):
+    def forward(self, x: ArrayLike) -> NDArray[np.float64]:
+        """Normalised output (0..1) of normalised input, held at the end values outside the table's levels."""
         x = np.clip(_as_unit(x, "x"), self.x[0], self.x[-1])
         return self._curve(x)[()]
 
-    def inverse(self, y):
+    def inverse(self, y: ArrayLike) -> NDArray[np.float64]:
+        """Normalised input that gives normalised output ``y``, within the table's levels (0..1), from a 65537-point grid."""
         # Flat stretches are ambiguous; np.interp on a non-decreasing table returns a level inside them.
         dense_x, dense_y = self._dense
         return np.interp(_as_unit(y, "y"), dense_y, dense_x)
 
     def parameters(self) -> dict:
+        """The table as saved in a profile, ``{"x": [...], "y": [...]}``."""
         return {"x": list(self.x), "y": list(self.y)}
 
     @classmethod
-    def fit(cls, x, y, sigma=None) -> "TableTransfer":
+    def fit(cls, x: ArrayLike, y: ArrayLike, sigma: ArrayLike | None = None) -> "TableTransfer":
         """Through every point; ``sigma`` is accepted for a common signature and not used."""
         return cls(tuple(float(v) for v in x), tuple(float(v) for v in y))
 
@@ -286,7 +340,7 @@ class TransferFit:
     max_abs: float
 
 
-def fit_transfer(x, y, model: str = "gog", sigma=None) -> TransferFit:
+def fit_transfer(x: ArrayLike, y: ArrayLike, model: str = "gog", sigma: ArrayLike | None = None) -> TransferFit:
     """Fit one transfer model to normalised measurements.
 
     Parameters
@@ -301,10 +355,22 @@ def fit_transfer(x, y, model: str = "gog", sigma=None) -> TransferFit:
         Standard error of each ``y`` in the same normalised units (see :func:`reading_sigma`); it weights the
         fitted models. ``None`` assumes 0.3 % of the value plus 1e-4 of full scale.
 
+    Returns
+    -------
+    TransferFit
+        The model with its RMS and largest residual in normalised output (fraction of full drive).
+
     Raises
     ------
     ValueError
         For an unknown model name (listing the valid ones) or unusable data.
+
+    Examples
+    --------
+    >>> x = np.linspace(0.0, 1.0, 9)
+    >>> fit = fit_transfer(x, x**2.2, "power")
+    >>> round(fit.model.gamma, 6), fit.rms < 1e-9
+    (2.2, True)
     """
     if model not in TRANSFER_MODELS:
         raise ValueError(f"unknown transfer model {model!r}; choose one of: {', '.join(TRANSFER_MODELS)}")
@@ -315,8 +381,19 @@ def fit_transfer(x, y, model: str = "gog", sigma=None) -> TransferFit:
     return TransferFit(fitted, float(np.sqrt(np.mean(residual**2))), float(np.max(np.abs(residual))))
 
 
-def transfer_from_dict(data: dict):
-    """Rebuild a model from ``{"model": name, "parameters": {...}}`` as saved in a profile."""
+def transfer_from_dict(data: dict) -> PowerTransfer | GainOffsetGammaTransfer | TableTransfer:
+    """Rebuild a transfer model from ``{"model": name, "parameters": {...}}`` as saved in a profile.
+
+    Raises
+    ------
+    ValueError
+        For an unknown model name (listing the valid ones) or an invalid table.
+
+    Examples
+    --------
+    >>> transfer_from_dict({"model": "power", "parameters": {"gamma": 2.2}})
+    PowerTransfer(gamma=2.2)
+    """
     name = data.get("model")
     if name not in TRANSFER_MODELS:
         raise ValueError(f"unknown transfer model {name!r}; choose one of: {', '.join(TRANSFER_MODELS)}")
@@ -326,8 +403,24 @@ def transfer_from_dict(data: dict):
     return TRANSFER_MODELS[name](**parameters)
 
 
-def sRGB_decode(levels, bits: int = 8):
+def sRGB_decode(levels: ArrayLike, bits: int = 8) -> NDArray[np.float64]:
     """The IEC 61966-2-1 sRGB curve: digital level to normalised linear output.
+
+    Parameters
+    ----------
+    levels
+        Digital levels, 0..2^bits − 1, any shape.
+    bits
+        Bit depth (8 for the standard's 0..255).
+
+    Returns
+    -------
+    ndarray of float64, shape of ``levels``
+        Linear output, 0..1: ``V/12.92`` up to ``V = 0.04045``, ``((V + 0.055)/1.055)^2.4`` above, ``V = d/d_max``.
+
+    References
+    ----------
+    IEC 61966-2-1:1999, Default RGB colour space – sRGB.
 
     Examples
     --------

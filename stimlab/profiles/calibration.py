@@ -5,11 +5,18 @@ black, a few validation colours, and repeats of white and mid-grey spread over t
 Readings are luminance in cd/m² (and CIE 1931 x, y when the instrument gives them); the primaries' spectra can come
 from a spectroradiometer's CSV instead. Tolerances default to 2 % luminance and 0.004 Δu′v′ (common practice:
 set your lab's own).
+
+References
+----------
+- Berns, R. S. (1996). Methods for characterizing CRT displays. Displays, 16(4), 173–182 (measuring and
+  validating a display model).
+- CIE 015:2018, Colorimetry (CIE 1976 u′, v′ for Δu′v′; from memory).
 """
 
 from __future__ import annotations
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ..colorimetry._colour import colour
 from ..colorimetry.display import DisplayModel
@@ -27,7 +34,34 @@ VALIDATION_RGB = ((0.5, 0.5, 0.5), (0.8, 0.3, 0.3), (0.3, 0.7, 0.35), (0.35, 0.4
 
 
 def measurement_plan(bits: int, levels_per_channel: int = 12) -> list[dict]:
-    """The patches to measure, in order, each ``{"step", "kind", "device", "channel"?, "label"}``."""
+    """The patches to measure, in order.
+
+    Parameters
+    ----------
+    bits
+        Bit depth of the display; device levels run 0..2^bits − 1.
+    levels_per_channel
+        Points of the spacing per channel, ≥ 3, level 0 included (measured once, as black): levels
+        ``d_max · u^1.5`` for evenly spaced ``u`` in 0..1, denser near black where the transfer curve bends
+        (duplicates after rounding are dropped).
+
+    Returns
+    -------
+    list of dict
+        ``{"step", "kind", "device", "label"}`` and ``"channel"`` for the single-channel patches; ``kind`` is
+        black, channel, white, validation or drift; ``device`` is three device levels.
+
+    Raises
+    ------
+    InputError
+        If ``levels_per_channel`` is below 3.
+
+    Examples
+    --------
+    >>> plan = measurement_plan(8, levels_per_channel=4)
+    >>> len(plan), [step["device"] for step in plan if step.get("channel") == "red"]
+    (21, [[49, 0, 0], [139, 0, 0], [255, 0, 0]])
+    """
     d_max = 2**bits - 1
     if isinstance(levels_per_channel, bool) or not isinstance(levels_per_channel, int) or levels_per_channel < 3:
         raise InputError("measure at least three levels per channel", field="levels_per_channel")
@@ -58,10 +92,25 @@ def measurement_plan(bits: int, levels_per_channel: int = 12) -> list[dict]:
     return steps
 
 
-def cross_validated_rms(x, y, model: str, sigma=None) -> float:
+def cross_validated_rms(x: ArrayLike, y: ArrayLike, model: str, sigma: ArrayLike | None = None) -> float:
     """Leave-one-out RMS prediction error of a transfer model (interior points; 0 and full drive are anchors).
 
-    ``sigma`` is the standard error of each ``y`` (see :func:`stimlab.colorimetry.transfer.fit_transfer`).
+    Parameters
+    ----------
+    x
+        Normalised device levels ``d / d_max``, increasing, 0 first and 1 last.
+    y
+        Normalised output, fraction of full-drive luminance above black, 0..1.
+    model
+        A key of :data:`stimlab.colorimetry.transfer.TRANSFER_MODELS`.
+    sigma
+        Standard error of each ``y`` (see :func:`stimlab.colorimetry.transfer.fit_transfer`).
+
+    Returns
+    -------
+    float
+        RMS of the predictions at the left-out levels, normalised output; ``inf`` when a fit fails or no interior
+        level exists.
     """
     x, y = np.asarray(x, float), np.asarray(y, float)
     sigma = None if sigma is None else np.broadcast_to(np.asarray(sigma, float), y.shape)
@@ -76,10 +125,18 @@ def cross_validated_rms(x, y, model: str, sigma=None) -> float:
     return float(np.sqrt(np.mean(np.square(errors)))) if errors else float("inf")
 
 
-def recommend_model(x, y, sigma=None) -> tuple[str, dict]:
+def recommend_model(x: ArrayLike, y: ArrayLike, sigma: ArrayLike | None = None) -> tuple[str, dict]:
     """The model that best predicts levels it was not fitted to (leave-one-out), and every model's score.
 
-    A model that cannot be fitted to these readings (a table through falling readings) scores ``None``.
+    Arguments as for :func:`cross_validated_rms`; the scores are its RMS (normalised output) by model name, and
+    ``None`` for a model that cannot be fitted to these readings (a table through falling readings).
+
+    Examples
+    --------
+    >>> x = np.linspace(0.0, 1.0, 9)
+    >>> best, scores = recommend_model(x, x**2.2)
+    >>> round(scores["table"], 4), scores["power"] < 1e-6
+    (0.0027, True)
     """
     rms = {name: cross_validated_rms(x, y, name, sigma) for name in TRANSFER_MODELS}
     best = min(rms, key=rms.get)
@@ -98,6 +155,32 @@ def profile_from_readings(plan: list[dict], readings: list[dict], *, name: str, 
 
     ``spectra`` (from a spectroradiometer CSV) gives the primaries; otherwise the x, y read at each channel's full
     drive do, and the profile is flagged as approximate.
+
+    Parameters
+    ----------
+    plan
+        The run's :func:`measurement_plan`.
+    readings
+        ``{"step", "luminance"}`` (cd/m²) with optional CIE 1931 ``"x"``, ``"y"``, one per measured step.
+    name, bits, refresh_hz, size_cm, size_px, measured_by
+        The display's name, bit depth, refresh rate (Hz), size (cm and px) and who measured it.
+    spectra
+        Spectra of the primaries and black as :func:`stimlab.profiles.profile.build_profile` takes them.
+    model
+        Transfer model to use for every channel; ``None`` takes each channel's :func:`recommend_model`.
+
+    Returns
+    -------
+    profile : dict
+        The checked display profile.
+    scores : dict
+        ``{channel: {model: leave-one-out RMS}}``, normalised output.
+
+    Raises
+    ------
+    InputError
+        If a black, channel or white patch is unmeasured, a channel's readings cannot be fitted, or, without
+        spectra, a channel's full-drive x, y is missing.
     """
     pairs = _by_step(plan, readings)
     missing = [s["label"] for s, r in pairs if r is None and s["kind"] in ("black", "channel", "white")]
@@ -143,7 +226,24 @@ def _uv(x, y):
 
 
 def validate(profile: dict, plan: list[dict], readings: list[dict], tolerance: dict | None = None) -> dict:
-    """Predicted against measured luminance (%) and chromaticity (Δu′v′) for the validation colours."""
+    """Predicted against measured luminance (%) and chromaticity (Δu′v′) for the validation colours.
+
+    Parameters
+    ----------
+    profile
+        The display profile to check.
+    plan, readings
+        As for :func:`profile_from_readings`; unmeasured validation steps are skipped.
+    tolerance
+        ``{"luminance_percent", "delta_uv"}`` overriding :data:`DEFAULT_TOLERANCE` (2 %, 0.004).
+
+    Returns
+    -------
+    dict
+        ``tolerance``; ``colours``, one row per measured validation colour with measured and predicted
+        luminance (cd/m²), ``luminance_error_percent`` (predicted − measured, % of measured), ``delta_uv`` (CIE
+        1976 u′v′ distance, when x, y were read) and ``passed``; and ``passed`` overall (false with no rows).
+    """
     tolerance = {**DEFAULT_TOLERANCE, **(tolerance or {})}
     model = DisplayModel(profile)
     rows = []
@@ -166,8 +266,32 @@ def validate(profile: dict, plan: list[dict], readings: list[dict], tolerance: d
     return {"tolerance": tolerance, "colours": rows, "passed": bool(rows) and all(r["passed"] for r in rows)}
 
 
-def drift(plan: list[dict], readings: list[dict], tolerance_percent: float = DEFAULT_TOLERANCE["luminance_percent"]):
-    """Change of the repeated patches over the run, in % of their first reading, with a warning flag."""
+def drift(plan: list[dict], readings: list[dict],
+          tolerance_percent: float = DEFAULT_TOLERANCE["luminance_percent"]) -> dict:
+    """Change of the repeated patches over the run, in % of their first reading, with a warning flag.
+
+    Parameters
+    ----------
+    plan, readings
+        As for :func:`profile_from_readings`.
+    tolerance_percent
+        Largest change (% of the first reading) taken as stable; default 2 %.
+
+    Returns
+    -------
+    dict
+        ``repeats``: per repeated patch, its ``device`` levels, ``readings`` (cd/m²), ``change_percent``,
+        ``worst_percent`` and ``warning``; and ``warning`` if any patch drifted beyond the tolerance.
+
+    Examples
+    --------
+    >>> plan = measurement_plan(8, levels_per_channel=4)
+    >>> readings = [{"step": s["step"], "luminance": 100.0 if s["step"] == 1 else 97.0}
+    ...             for s in plan if s["device"] == [255, 255, 255]]
+    >>> result = drift(plan, readings)
+    >>> result["repeats"][0]["change_percent"], result["warning"]
+    ([0.0, -3.0, -3.0], True)
+    """
     groups: dict[tuple, list] = {}
     for step, reading in _by_step(plan, readings):
         if reading is not None and step["kind"] in ("drift", "white"):

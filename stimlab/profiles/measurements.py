@@ -22,6 +22,7 @@ import math
 from pathlib import Path
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
 from ..colorimetry.display import CHANNELS
 from ..errors import InputError
@@ -39,8 +40,24 @@ models: about five standard deviations of the difference of two readings under t
 reading + 0.002 cd/m², :func:`stimlab.colorimetry.transfer.reading_sigma`). A larger fall is a fault to re-measure."""
 
 
-def read_text(path) -> str:
-    """The text of a measurement file, or an :class:`InputError` saying why it cannot be read."""
+def read_text(path: str | Path) -> str:
+    """The text of a measurement file, read as UTF-8 (a byte-order mark is dropped).
+
+    Parameters
+    ----------
+    path
+        The file.
+
+    Returns
+    -------
+    str
+        Its text.
+
+    Raises
+    ------
+    InputError
+        If the file does not exist or is not UTF-8 text, naming the file and the fix.
+    """
     path = Path(path)
     if not path.is_file():
         raise InputError("file not found; check the path", file=str(path))
@@ -118,7 +135,8 @@ def _spectral_table(text: str, name: str, columns: tuple[str, ...],
     return wavelengths, values, len(columns) > 3
 
 
-def parse_spectra(text: str, name: str = "spectra") -> tuple[np.ndarray, np.ndarray, np.ndarray | None]:
+def parse_spectra(text: str, name: str = "spectra") -> tuple[NDArray[np.float64], NDArray[np.float64],
+                                                             NDArray[np.float64] | None]:
     """Parse primary spectra from CSV text.
 
     Parameters
@@ -130,24 +148,41 @@ def parse_spectra(text: str, name: str = "spectra") -> tuple[np.ndarray, np.ndar
 
     Returns
     -------
-    wavelengths : ndarray, (N,)
-        nm.
-    primaries : ndarray, (N, 3)
-        Radiance of red, green, blue at full drive as measured, W·sr⁻¹·m⁻²·nm⁻¹.
-    black : ndarray (N,) or None
+    wavelengths : ndarray of float64, shape (N,)
+        nm, evenly spaced 1–5 nm apart, covering at least :data:`SPECTRAL_RANGE_NM`.
+    primaries : ndarray of float64, shape (N, 3)
+        Radiance of red, green, blue at full drive as measured (black included), W·sr⁻¹·m⁻²·nm⁻¹, ≥ 0.
+    black : ndarray of float64, shape (N,), or None
         Radiance at all-zero drive when the file has a ``black`` column.
+
+    Raises
+    ------
+    InputError
+        Naming the file, row and column: a wrong header, a value that is not a finite number, a negative
+        radiance, wavelengths that do not increase evenly by 1–5 nm, or too short a range.
+
+    Examples
+    --------
+    >>> rows = "".join(f"{w},0.001,0.002,0.0005\\n" for w in range(390, 781, 5))
+    >>> wavelengths, primaries, black = parse_spectra("wavelength_nm,red,green,blue\\n" + rows)
+    >>> wavelengths.size, primaries.shape, black is None
+    (79, (79, 3), True)
     """
     wavelengths, values, has_black = _spectral_table(text, name, CHANNELS, ("black",))
     return wavelengths, values[:, :3], (values[:, 3] if has_black else None)
 
 
-def parse_black(text: str, name: str = "black") -> tuple[np.ndarray, np.ndarray]:
-    """Parse a black (all-zero drive) spectrum from CSV text: ``wavelength_nm,black``."""
+def parse_black(text: str, name: str = "black") -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Parse a black (all-zero drive) spectrum from CSV text: ``wavelength_nm,black``.
+
+    Returns wavelengths (nm, shape (N,)) and radiance (W·sr⁻¹·m⁻²·nm⁻¹, shape (N,)); raises :class:`InputError`
+    for the problems :func:`parse_spectra` names.
+    """
     wavelengths, values, _ = _spectral_table(text, name, ("black",))
     return wavelengths, values[:, 0]
 
 
-def falls(levels, luminance) -> list[dict]:
+def falls(levels: ArrayLike, luminance: ArrayLike) -> list[dict]:
     """Where readings fall below the highest reading at a lower level.
 
     Parameters
@@ -200,7 +235,24 @@ def parse_transfer(text: str, bits: int, name: str = "transfer",
     Returns
     -------
     dict
-        ``{channel: (levels, luminance_cd_m2)}``, sorted by level.
+        ``{channel: (levels, luminance_cd_m2)}`` for red, green and blue: device levels (0..2^bits − 1, as float)
+        and readings in cd/m², both ndarray of float64 sorted by level.
+
+    Raises
+    ------
+    InputError
+        Naming the file, row and column: a wrong header, an unknown channel, a level that is not a whole number
+        in range, a negative or non-numeric reading, a channel without level 0 or full drive, a level measured
+        twice, a fall in the readings (any for ``"table"``, one beyond the tolerance otherwise), or a channel no
+        brighter at full drive than at 0.
+
+    Examples
+    --------
+    >>> text = "channel,level,luminance_cd_m2\\n" + "".join(
+    ...     f"{c},{level},{cd_m2}\\n" for c in CHANNELS for level, cd_m2 in ((0, 0.2), (128, 22.0), (255, 100.0)))
+    >>> levels, luminance = parse_transfer(text, bits=8)["red"]
+    >>> levels.tolist(), luminance.tolist()
+    ([0.0, 128.0, 255.0], [0.2, 22.0, 100.0])
     """
     d_max = 2**bits - 1
     by_channel: dict[str, list[tuple[int, float, int]]] = {c: [] for c in CHANNELS}

@@ -35,7 +35,26 @@ def display_summary(profile: dict, observer=None, max_age_days: int = DEFAULT_MA
         Name, hash, bits, refresh (Hz), size (px, cm), who measured it and when, age (days), white and black
         luminance (cd/m²), primaries (CIE 1931 xy), the DKL headroom from mid-grey per axis (pooled cone
         contrast, ``[low, high]``), one digital level in cone contrast at mid-grey, transfer fits with residuals
-        (fraction of full output), warnings and notes.
+        (fraction of full output), warnings, notes and the rod figures of :func:`rods_summary`.
+
+    Raises
+    ------
+    ValueError
+        For an unknown observer key.
+
+    References
+    ----------
+    Brainard (1996) for the DKL normalisation (:mod:`stimlab.colorimetry.spaces`).
+
+    Examples
+    --------
+    >>> import datetime
+    >>> from stimlab.profiles.demo import demo_profile
+    >>> summary = display_summary(demo_profile(), today=datetime.date(2026, 12, 1))
+    >>> summary["bits"], round(summary["white_cd_m2"], 1), summary["age_days"]
+    (10, 122.9, 7)
+    >>> [round(v, 4) for v in summary["dkl_limits"]["L-M"]]
+    [-0.1643, 0.1643]
     """
     model = DisplayModel(profile) if observer is None else DisplayModel(profile, observer)
     background = Background(model, MID_GREY)
@@ -65,7 +84,24 @@ def display_summary(profile: dict, observer=None, max_age_days: int = DEFAULT_MA
 def rods_summary(model: DisplayModel, background: Background) -> dict:
     """Rod intrusion at mid-grey: rod contrast of each DKL axis's unit stimulus and of a step of each primary.
 
-    ``available`` is false for a profile given as xyY (rod excitation needs spectra; nothing is guessed).
+    Parameters
+    ----------
+    model
+        The display model.
+    background
+        The background the figures are given for (mid-grey in :func:`display_summary`).
+
+    Returns
+    -------
+    dict
+        ``available`` (false for a profile given as xyY, with the reason in ``note``: rod excitation needs
+        spectra and nothing is guessed); otherwise the background's and white's scotopic luminance (scotopic
+        cd/m²), white's scotopic-to-photopic ratio S/P, the rod contrast of a unit step (pooled cone contrast 1)
+        along each DKL axis, and of a 0.1 linear-RGB step of each primary.
+
+    References
+    ----------
+    CIE 1951 scotopic V′(λ) (:mod:`stimlab.colorimetry.rods`); CIE 191:2010 for the mesopic range (from memory).
     """
     rods = model.rods
     if rods is None:
