@@ -120,7 +120,7 @@ def test_only_the_protocols_keys_act_and_practice_is_flagged(server, page):
     session_id = start(page, server, protocol, name="keys.json")
     open_runner(page, server, session_id)
     legend = page.locator("#runner-message").inner_text()
-    assert "w s: change the colour" in legend and "hold Alt: for larger steps" in legend
+    assert "w / s: change the colour" in legend and "hold Alt: for larger steps" in legend
     assert "q: when the patch looks right" in legend and "Enter" not in legend and "↑" not in legend
     SCREENS.mkdir(parents=True, exist_ok=True)
     page.screenshot(path=str(SCREENS / "instructions_custom_keys.png"))

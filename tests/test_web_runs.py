@@ -81,3 +81,9 @@ def test_a_dry_runs_exports_say_so_in_their_names(client):
     # BIDS entity order: sub, task, acq, run (BIDS specification, "entity table").
     assert names["bids"].endswith(f'sub-T01_task-stimlab_acq-dryrun_run-{session_id}_events.tsv"')
     assert names["sidecar"].endswith(f'sub-T01_task-stimlab_acq-dryrun_run-{session_id}_events.json"')
+
+
+def test_the_run_page_shows_the_sessions_duration_with_its_pre_adaptation(client):
+    page = client.get("/run?protocol=afterimage_null.json&display=1").text
+    assert "the session lasts at least" in page and "pre-adaptation 60 s × 2" in page
+    assert 'name="dry_run_factor"' in page

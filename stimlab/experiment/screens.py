@@ -72,10 +72,12 @@ def response_keys(response: dict | None) -> dict | None:
         for i, key in enumerate(keys):
             out["moves"][key] = [i // 2, 1 if i % 2 == 0 else -1]
         if plane:
-            out["legend"] += [[f"{_key_name(keys[0])} {_key_name(keys[1])}", "change the colour one way or the other"],
-                              [f"{_key_name(keys[2])} {_key_name(keys[3])}", "change it in the other direction"]]
+            out["legend"] += [[f"{_key_name(keys[0])} / {_key_name(keys[1])}",
+                               "change the colour of the test patch one way, or back"],
+                              [f"{_key_name(keys[2])} / {_key_name(keys[3])}", "change it in a second direction, or back"]]
         else:
-            out["legend"].append([f"{_key_name(keys[0])} {_key_name(keys[1])}", "change the colour of the test patch"])
+            out["legend"].append([f"{_key_name(keys[0])} / {_key_name(keys[1])}",
+                                  "change the colour of the test patch one way, or back"])
         if out["coarse"]:
             out["legend"].append([f"hold {out['coarse']}", "for larger steps"])
         out["legend"].append([" or ".join(_key_name(k) for k in out["confirm"]),
