@@ -1,25 +1,18 @@
-"""Sessions: the list (filterable by protocol, participant code and status), a page per session with its timing
-quality and responses, and its exports."""
+"""Sessions: the list (filterable by protocol, participant code and status), a page per session, a page per study
+(every session of one protocol), and their exports. Every number comes from stimlab.sessions (summary, study,
+export); this layer only places them."""
 
 from __future__ import annotations
-
-import json
 
 import numpy as np
 from flask import Blueprint, Response, g, render_template, request, stream_with_context
 
-from ..colorimetry.spaces import LMS_to_DKL
-from ..sessions.export import (
-    BIDS_SIDECAR,
-    bids_events,
-    events_tsv,
-    frames_csv_chunks,
-    rows_to_csv,
-    session_json,
-    timing,
-    trial_rows,
-)
+from ..errors import InputError
+from ..sessions.export import SESSION_FORMATS, STUDY_FORMATS, session_export, study_export, study_sessions
 from ..sessions.ingest import get_session, progress
+from ..sessions.store import safe_protocol_name
+from ..sessions.study import study_summary
+from ..sessions.summary import session_summary
 from . import current_store
 from .errors import NotFound, WebError
 from .plots import _Axes
@@ -27,7 +20,6 @@ from .plots import _Axes
 blueprint = Blueprint("sessions", __name__)
 
 STATUSES = ("running", "interrupted", "complete")
-FORMATS = ("csv", "json", "bids", "sidecar", "frames")
 
 
 def _filters() -> dict:
@@ -56,42 +48,9 @@ def api_index():
     return {"sessions": current_store().sessions(g.db, **_filters())}
 
 
-def by_condition(session: dict, rows: list[dict]) -> list[dict]:
-    """Responses per condition, and for nulling or matching designs the null/match against the adapting vector."""
-    data = session["compiled"]
-    model = data.get("adaptation_model") or {}
-    LMS_0 = np.array(data["background"]["lms"])
-    obs = data["observer"]
-    summary = []
-    for condition in data["conditions"]:
-        done = [r for r in rows if r["condition"] == condition["label"] and r["completed"]]
-        entry = {"label": condition["label"], "n": len(done),
-                 "rt_ms": float(np.mean([r["response_rt_ms"] for r in done if r["response_rt_ms"] is not None]))
-                 if any(r["response_rt_ms"] is not None for r in done) else None}
-        correct = [r["response_correct"] for r in done if r["response_correct"] is not None]
-        if correct:
-            entry["proportion_correct"] = float(np.mean(correct))
-        nulls = [[r["response_dkl_lm"], r["response_dkl_s"]] for r in done if "response_dkl_lm" in r]
-        if nulls:
-            entry["response_dkl_mean"] = np.mean(nulls, axis=0).tolist()
-            entry["response_dkl_sd"] = np.std(nulls, axis=0, ddof=1).tolist() if len(nulls) > 1 else [0.0, 0.0]
-            source = None
-            if model.get("kind") == "after_image":
-                source = condition["stimuli"][model["adapter"]]["colour"]
-            elif model.get("kind") == "induction":
-                inducer = condition["stimuli"][model["inducer"]]
-                source = inducer.get("second_colour", inducer["colour"])
-            if source:
-                adapt = LMS_to_DKL(np.array(source["lms"]), LMS_0, obs["w_L"], obs["w_M"])[1:]
-                entry["adapt_dkl"] = adapt.tolist()
-                norm = float(np.linalg.norm(adapt))
-                entry["strength"] = float(np.linalg.norm(entry["response_dkl_mean"]) / norm) if norm else None
-        summary.append(entry)
-    return summary
-
-
 def vectors_plot(summary: list[dict]) -> dict | None:
-    """Adapting (or surround) vectors and the mean null (or match) vectors in the DKL isoluminant plane."""
+    """Adapting (or surround) vectors and the mean null (or match) vectors in the DKL isoluminant plane, placed in
+    a view box (the vectors themselves come from the session summary)."""
     pairs = [s for s in summary if "adapt_dkl" in s]
     if not pairs:
         return None
@@ -101,7 +60,7 @@ def vectors_plot(summary: list[dict]) -> dict | None:
     return {"frame": axes.frame(ticks, ticks, "L−M (DKL)", "S (DKL)"), "ox": axes.x(0), "oy": axes.y(0),
             "vectors": [{"label": s["label"], "ax": axes.x(s["adapt_dkl"][0]), "ay": axes.y(s["adapt_dkl"][1]),
                          "nx": axes.x(s["response_dkl_mean"][0]), "ny": axes.y(s["response_dkl_mean"][1]),
-                         "strength": s["strength"]} for s in pairs]}
+                         "along": s["along"]["mean"], "orthogonal": s["orthogonal"]["mean"]} for s in pairs]}
 
 
 def histogram_plot(quality: dict) -> dict:
@@ -113,25 +72,6 @@ def histogram_plot(quality: dict) -> dict:
     period = quality["period_ms"]
     return {"frame": axes.frame([0, period, 1.5 * period, 2 * period, 3 * period], [0, top], "frame interval (ms)",
                                 "frames"), "bars": bars, "drop_x": axes.x(1.5 * period)}
-
-
-def photometry_summary(session: dict, rows: list[dict]) -> dict | None:
-    """For a flicker-photometry session: the settings and the L/M weighting they imply."""
-    from ..colorimetry.observers import observer
-    from ..colorimetry.photometry import summarise_settings
-
-    data = session["compiled"]
-    task = data.get("photometry")
-    if not task:
-        return None
-    LMS_0 = np.array(data["background"]["lms"])
-    obs = observer(data["observer"]["key"])
-    stimulus = data["conditions"][0]["stimuli"][task["stimulus"]]
-    amplitude = float(LMS_to_DKL(np.array(stimulus["colour"]["lms"]), LMS_0, obs.w_L, obs.w_M)[1])
-    settings = [float(r["response_position"]) for r in rows if r.get("response_position") not in (None, "")]
-    if len(settings) < 2:
-        return {"settings": settings, "error": "at least two settings are needed"}
-    return summarise_settings(amplitude, settings, LMS_0, obs) | {"standard_observer": obs.key}
 
 
 @blueprint.post("/sessions/<int:session_id>/observer-adjustment")
@@ -150,7 +90,7 @@ def api_save_adjustment(session_id: int):
 
 def _store_adjustment(session_id: int):
     session = session_or_404(session_id)
-    summary = photometry_summary(session, trial_rows(g.db, session))
+    summary = session_summary(g.db, session)["photometry"]
     if summary is None:
         raise WebError("this session is not a flicker photometry task", field="session")
     if "error" in summary:
@@ -171,38 +111,58 @@ def api_observer(participant: str):
 @blueprint.get("/sessions/<int:session_id>")
 def show(session_id: int):
     session = session_or_404(session_id)
-    rows = trial_rows(g.db, session)
-    quality = timing(g.db, session)
-    summary = by_condition(session, rows)
+    summary = session_summary(g.db, session)
     display = current_store().display(g.db, session["display_id"])
-    photometry = photometry_summary(session, rows)
-    saved = current_store().latest_adjustment(g.db, session["participant"]) if photometry else None
-    return render_template("session.html", session=session, rows=rows, quality=quality, summary=summary,
-                           photometry=photometry, saved_adjustment=saved,
-                           vectors=vectors_plot(summary), histogram=histogram_plot(quality), display=display,
-                           progress=progress(g.db, session_id), formats=FORMATS)
+    saved = current_store().latest_adjustment(g.db, session["participant"]) if summary["photometry"] else None
+    return render_template("session.html", session=session, rows=summary["rows"], quality=summary["timing"],
+                           summary=summary["conditions"], model=summary["model"], photometry=summary["photometry"],
+                           saved_adjustment=saved, vectors=vectors_plot(summary["conditions"]),
+                           histogram=histogram_plot(summary["timing"]), display=display,
+                           progress=progress(g.db, session_id), formats=SESSION_FORMATS)
 
 
 @blueprint.get("/sessions/<int:session_id>/export.<fmt>")
 def export(session_id: int, fmt: str):
     session = session_or_404(session_id)
-    stem = f"session-{session_id}_{session['participant']}"
-    if fmt == "csv":
-        return _download(rows_to_csv(trial_rows(g.db, session)), f"{stem}_trials.csv", "text/csv")
-    if fmt == "json":
-        profile = current_store().display(g.db, session["display_id"])["profile"]
-        return _download(json.dumps(session_json(g.db, session, profile), indent=1), f"{stem}.json",
-                         "application/json")
-    if fmt == "bids":
-        return _download(events_tsv(bids_events(g.db, session)), f"sub-{session['participant']}_task-stimlab_"
-                         f"run-{session_id}_events.tsv", "text/tab-separated-values")
-    if fmt == "sidecar":
-        return _download(json.dumps(BIDS_SIDECAR, indent=2), f"sub-{session['participant']}_task-stimlab_"
-                         f"run-{session_id}_events.json", "application/json")
-    if fmt == "frames":  # streamed: an hour's log is tens of MB
-        return _download(stream_with_context(frames_csv_chunks(g.db, session_id)), f"{stem}_frames.csv", "text/csv")
-    raise NotFound(f"unknown export format {fmt!r}; choose one of: {', '.join(FORMATS)}")
+    if fmt not in SESSION_FORMATS:
+        raise NotFound(f"unknown export format {fmt!r}; choose one of: {', '.join(SESSION_FORMATS)}")
+    return _download(session_export(g.db, current_store(), session, fmt))
 
 
-def _download(text, filename: str, mimetype: str) -> Response:
-    return Response(text, mimetype=mimetype, headers={"Content-Disposition": f'attachment; filename="{filename}"'})
+def _protocol_or_404(name: str) -> str:
+    try:
+        name = safe_protocol_name(name)
+    except InputError as error:
+        raise NotFound(error.message) from None
+    if not study_sessions(g.db, name):
+        raise NotFound(f"there are no sessions of {name!r} yet; run the protocol first")
+    return name
+
+
+@blueprint.get("/studies/<name>")
+def study(name: str):
+    name = _protocol_or_404(name)
+    summary = study_summary(g.db, name, study_sessions(g.db, name))
+    return render_template("study.html", study=summary, formats=STUDY_FORMATS)
+
+
+@blueprint.get("/api/studies/<name>")
+def api_study(name: str):
+    name = _protocol_or_404(name)
+    return study_summary(g.db, name, study_sessions(g.db, name))
+
+
+@blueprint.get("/studies/<name>/export.<fmt>")
+def study_download(name: str, fmt: str):
+    name = _protocol_or_404(name)
+    if fmt not in STUDY_FORMATS:
+        raise NotFound(f"unknown export format {fmt!r}; choose one of: {', '.join(STUDY_FORMATS)}")
+    return _download(study_export(g.db, current_store(), name, fmt))
+
+
+def _download(exported) -> Response:
+    content = exported.content
+    if not isinstance(content, (str, bytes)):  # a generator of chunks: streamed
+        content = stream_with_context(content)
+    return Response(content, mimetype=exported.mimetype,
+                    headers={"Content-Disposition": f'attachment; filename="{exported.name}"'})
