@@ -28,13 +28,14 @@ def test_the_interval_is_students_t_over_trials():
 
 @pytest.fixture
 def matched(app, client):
-    rng = np.random.default_rng(7)
+    seen = {}
+    spread = [[-0.01, 0.005], [0.0, -0.005], [0.01, 0.0], [-0.005, 0.01], [0.005, -0.01]]
 
     def respond(trial, condition):
-        # contrast: 30 % of the surround's DKL coordinates, opposed, plus trial noise; on the 0.005 ladder
+        # contrast: about 30 % of the surround's DKL coordinates, opposed, spread over the repeats (0.005 ladder)
         target = {"+L-M": [-0.025, 0.0], "-L-M": [0.025, 0.0], "+S": [0.0, -0.09], "-S": [0.0, 0.09]}
-        match = np.array(target[condition["labels"]["surround"]]) + rng.normal(0, 0.012, 2)
-        return sim.adjustment(np.round(match / 0.005) * 0.005, condition["response"])
+        repeat = seen[condition["label"]] = seen.get(condition["label"], -1) + 1
+        return sim.adjustment(np.add(target[condition["labels"]["surround"]], spread[repeat]), condition["response"])
 
     session_id = sim.run(app, client, "contrast_match.json", "P01", respond)
     db = app.extensions["stimlab.store"].connect()
@@ -58,3 +59,4 @@ def test_the_session_page_shows_signed_components_not_a_ratio_of_lengths(matched
     page = client.get(f"/sessions/{session['id']}").text
     assert "Along adapting direction" in page and "contrast" in page and "Strength = |null|" not in page
     assert "95 % confidence interval" in page and "surround=+S</text>" in page  # labelled vectors
+

@@ -140,7 +140,7 @@ def bids_files(db, sessions: list[dict], *, name: str, authors=()) -> dict[str, 
         events = bids_events(db, session)
         event_columns = _columns(events, ("onset", "duration", "trial_type"))
         put(f"{stem}_events.tsv", tsv(events, event_columns))
-        put(f"{stem}_events.json", {"TaskName": task, **_events_sidecar(event_columns, conditions)})
+        put(f"{stem}_events.json", _events_sidecar(event_columns, conditions))  # column entries only
     put("participants.tsv", tsv([{"participant_id": f"sub-{p}"} for p in participants], ["participant_id"]))
     put("participants.json", {"participant_id": {"Description": "BIDS participant label: the participant's "
                                                                 "pseudonymous code, letters and digits only"}})

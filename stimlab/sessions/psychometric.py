@@ -45,6 +45,7 @@ def weibull(x, threshold: float, slope: float, guess: float = 0.5, lapse: float 
 
 def _fit(x, k, n, guess, lapse, start):
     def nll(params):
+        params = np.clip(params, -30.0, 5.0)  # far outside any stimulus range: keeps exp() finite
         p = np.clip(weibull(x, np.exp(params[0]), np.exp(params[1]), guess, lapse), 1e-9, 1 - 1e-9)
         return -float(np.sum(k * np.log(p) + (n - k) * np.log(1 - p)))
 
