@@ -15,7 +15,7 @@ from .frame_log import FRAME_COLUMNS, FrameBlock
 from .ingest import frame_blocks
 from .trials import CHANNELS
 
-__all__ = ["frame_columns", "frame_chunks", "frames_csv_chunks", "CHUNK_BLOCKS"]
+__all__ = ["frame_columns", "frame_chunks", "frame_arrays", "frames_csv_chunks", "CHUNK_BLOCKS", "TEXT_COLUMNS"]
 
 CHUNK_BLOCKS = 64  # stored blocks handled together: about a minute of frames, a few MB at most
 TEXT_COLUMNS = ("phase", "drawn")
@@ -61,28 +61,29 @@ def _levels(block: FrameBlock, data: dict) -> np.ndarray:
 
 
 def frame_chunks(db, session: dict):
-    """The frame table in chunks of about a minute: ``{column: numpy array}``, text columns as object arrays
-    (None for none), whole-number columns with -1 for none (``trial`` and the drawn levels)."""
+    """The frame table in chunks of about a minute, as ``(block, levels)``: the stored columns of the frames
+    (:class:`~stimlab.sessions.frame_log.FrameBlock`, text columns as codes into ``block.labels``) and their drawn
+    device levels, a (frames, 3 · stimuli) integer array with -1 where a stimulus is not drawn (columns in the
+    order of :func:`frame_columns`)."""
     data = session["compiled"]
-    columns = frame_columns(data)
-    drawn = [c for c in columns if c.startswith("drawn_")]
     chunk: list = []
-
-    def emit(blocks):
-        block = FrameBlock.concatenate(blocks)
-        out = {name: (np.array(block.text(name), dtype=object) if name in TEXT_COLUMNS else block.columns[name])
-               for name in FRAME_COLUMNS if name != "drawn"}
-        levels = _levels(block, data)
-        out |= {name: levels[:, i] for i, name in enumerate(drawn)}
-        return out
-
     for block in frame_blocks(db, session["id"]):
         chunk.append(block)
         if len(chunk) == CHUNK_BLOCKS:
-            yield emit(chunk)
+            merged = FrameBlock.concatenate(chunk)
+            yield merged, _levels(merged, data)
             chunk = []
     if chunk:
-        yield emit(chunk)
+        merged = FrameBlock.concatenate(chunk)
+        yield merged, _levels(merged, data)
+
+
+def frame_arrays(block: FrameBlock, levels: np.ndarray, columns: list[str]) -> dict:
+    """One chunk as ``{column: numpy array}``: text columns as object arrays (None for none)."""
+    out = {name: (np.array(block.text(name), dtype=object) if name in TEXT_COLUMNS else block.columns[name])
+           for name in FRAME_COLUMNS if name != "drawn"}
+    drawn = [c for c in columns if c.startswith("drawn_")]
+    return out | {name: levels[:, i] for i, name in enumerate(drawn)}
 
 
 def _text(values: np.ndarray, name: str) -> list[str]:
@@ -98,7 +99,8 @@ def _text(values: np.ndarray, name: str) -> list[str]:
 def frames_csv_chunks(db, session: dict):
     """The frame table as CSV text in chunks (the header, then about a minute of frames each): memory stays flat.
     Text cells never hold commas or quotes (phase names are checked on the way in)."""
-    yield ",".join(frame_columns(session["compiled"])) + "\n"
-    for chunk in frame_chunks(db, session):
-        fields = [_text(values, name) for name, values in chunk.items()]
+    columns = frame_columns(session["compiled"])
+    yield ",".join(columns) + "\n"
+    for block, levels in frame_chunks(db, session):
+        fields = [_text(values, name) for name, values in frame_arrays(block, levels, columns).items()]
         yield "\n".join(map(",".join, zip(*fields))) + "\n"

@@ -26,11 +26,11 @@ import pyarrow as pa
 import pyarrow.parquet as pq
 
 from .dictionary import dictionary
-from .frame_table import frame_chunks, frame_columns
+from .frame_table import TEXT_COLUMNS, frame_chunks, frame_columns
 from .provenance import provenance
 from .trials import trial_rows
 
-__all__ = ["write_study_parquet", "partition_value"]
+__all__ = ["write_study_parquet", "write_frames_parquet", "partition_value"]
 
 PARTITION = ("participant", "session")
 
@@ -47,22 +47,48 @@ def _trial_table(rows: list[dict]) -> pa.Table:
     return pa.table({c: pa.array([row.get(c) for row in rows]) for c in columns})
 
 
-def _frame_arrays(chunk: dict) -> dict:
-    out = {}
-    for name, values in chunk.items():
-        if values.dtype == object:
-            out[name] = pa.array(values.tolist(), type=pa.string())
-        elif name == "trial" or name.startswith("drawn_"):
-            out[name] = pa.array(values.astype(np.int32), mask=values < 0)
+def _frame_table(block, levels: np.ndarray, columns: list[str]) -> pa.Table:
+    """One chunk as an Arrow table straight from the stored columns: text columns as dictionary arrays over the
+    block's labels (no Python objects per frame), whole-number columns with -1 for none as nulls."""
+    arrays = {}
+    for name in columns:
+        if name in TEXT_COLUMNS:
+            codes = block.columns[name].astype(np.int32)
+            none = codes >= len(block.labels)
+            indices = pa.array(np.where(none, 0, codes), mask=none)
+            arrays[name] = pa.DictionaryArray.from_arrays(indices, pa.array(block.labels or [""], type=pa.string()))
+        elif name.startswith("drawn_"):
+            values = levels[:, columns.index(name) - columns.index(next(c for c in columns if c.startswith("drawn_")))]
+            arrays[name] = pa.array(values, mask=values < 0)
+        elif name == "trial":
+            values = block.columns[name]
+            arrays[name] = pa.array(values, mask=values < 0)
         else:
-            out[name] = pa.array(values)
-    return out
+            arrays[name] = pa.array(block.columns[name])
+    return pa.table(arrays)
 
 
 def _partition(folder: Path, table: str, session: dict) -> Path:
     path = folder / table / f"participant={partition_value(session['participant'])}" / f"session={session['id']}"
     path.mkdir(parents=True, exist_ok=True)
     return path / "part-0.parquet"
+
+
+def write_frames_parquet(db, session: dict, path: Path) -> int:
+    """Write one session's frame table as one Parquet file (a row group per chunk); return the frame count."""
+    writer, count = None, 0
+    columns = frame_columns(session["compiled"])
+    for block, levels in frame_chunks(db, session):
+        batch = _frame_table(block, levels, columns)
+        if writer is None:
+            # dictionary encoding only where it pays (the text columns): on times and levels it costs twice the
+            # write time for no smaller file
+            writer = pq.ParquetWriter(path, batch.schema, compression="zstd", use_dictionary=list(TEXT_COLUMNS))
+        writer.write_table(batch)
+        count += batch.num_rows
+    if writer is not None:
+        writer.close()
+    return count
 
 
 def write_study_parquet(db, store, sessions: list[dict], folder: Path) -> dict:
@@ -78,15 +104,7 @@ def write_study_parquet(db, store, sessions: list[dict], folder: Path) -> dict:
             pq.write_table(table, _partition(folder, "trials", session), compression="zstd")
             described["trials"] += [c for c in table.column_names if c not in described["trials"]]
             counts["trials"] += table.num_rows
-        writer = None
-        for chunk in frame_chunks(db, session):
-            batch = pa.table(_frame_arrays(chunk))
-            if writer is None:
-                writer = pq.ParquetWriter(_partition(folder, "frames", session), batch.schema, compression="zstd")
-            writer.write_table(batch)
-            counts["frames"] += batch.num_rows
-        if writer is not None:
-            writer.close()
+        counts["frames"] += write_frames_parquet(db, session, _partition(folder, "frames", session))
         described["frames"] = described["frames"] or frame_columns(session["compiled"])
         info = provenance(db, session)
         records.append({"participant": session["participant"], "session": session["id"],
