@@ -58,5 +58,5 @@ def test_the_session_page_shows_signed_components_not_a_ratio_of_lengths(matched
     db, session = matched
     page = client.get(f"/sessions/{session['id']}").text
     assert "Along adapting direction" in page and "contrast" in page and "Strength = |null|" not in page
-    assert "95 % confidence interval" in page and "surround=+S</text>" in page  # labelled vectors
+    assert "95 % confidence interval" in page and "/figures/vectors.svg" in page
 

@@ -4,18 +4,18 @@ export); this layer only places them."""
 
 from __future__ import annotations
 
-import numpy as np
 from flask import Blueprint, Response, g, render_template, request, stream_with_context
 
 from ..errors import InputError
 from ..sessions.export import SESSION_FORMATS, STUDY_FORMATS, session_export, study_export, study_sessions
+from ..sessions.figures import FORMATS as FIGURE_FORMATS
+from ..sessions.figures import render, session_specs, study_specs
 from ..sessions.ingest import get_session, progress
 from ..sessions.store import safe_protocol_name
 from ..sessions.study import study_summary
 from ..sessions.summary import session_summary
 from . import current_store
 from .errors import NotFound, WebError
-from .plots import _Axes
 
 blueprint = Blueprint("sessions", __name__)
 
@@ -46,32 +46,6 @@ def index():
 @blueprint.get("/api/sessions")
 def api_index():
     return {"sessions": current_store().sessions(g.db, **_filters())}
-
-
-def vectors_plot(summary: list[dict]) -> dict | None:
-    """Adapting (or surround) vectors and the mean null (or match) vectors in the DKL isoluminant plane, placed in
-    a view box (the vectors themselves come from the session summary)."""
-    pairs = [s for s in summary if "adapt_dkl" in s]
-    if not pairs:
-        return None
-    span = 1.15 * max(max(abs(v) for s in pairs for v in s["adapt_dkl"] + s["response_dkl_mean"]), 1e-6)
-    axes = _Axes((-span, span), (-span, span), width=300, height=300)
-    ticks = [round(t, 4) for t in np.linspace(-span, span, 5)]
-    return {"frame": axes.frame(ticks, ticks, "L−M (DKL)", "S (DKL)"), "ox": axes.x(0), "oy": axes.y(0),
-            "vectors": [{"label": s["label"], "ax": axes.x(s["adapt_dkl"][0]), "ay": axes.y(s["adapt_dkl"][1]),
-                         "nx": axes.x(s["response_dkl_mean"][0]), "ny": axes.y(s["response_dkl_mean"][1]),
-                         "along": s["along"]["mean"], "orthogonal": s["orthogonal"]["mean"]} for s in pairs]}
-
-
-def histogram_plot(quality: dict) -> dict:
-    edges, counts = quality["histogram"]["edges_ms"], quality["histogram"]["counts"]
-    top = max(counts + [1])
-    axes = _Axes((edges[0], edges[-1]), (0, top), height=180)
-    bars = [{"x": axes.x(a), "width": max(axes.x(b) - axes.x(a) - 1, 1), "y": axes.y(c), "h": axes.y(0) - axes.y(c),
-             "label": f"{a:.1f}–{b:.1f} ms: {c}"} for a, b, c in zip(edges, edges[1:], counts)]
-    period = quality["period_ms"]
-    return {"frame": axes.frame([0, period, 1.5 * period, 2 * period, 3 * period], [0, top], "frame interval (ms)",
-                                "frames"), "bars": bars, "drop_x": axes.x(1.5 * period)}
 
 
 @blueprint.post("/sessions/<int:session_id>/observer-adjustment")
@@ -116,9 +90,15 @@ def show(session_id: int):
     saved = current_store().latest_adjustment(g.db, session["participant"]) if summary["photometry"] else None
     return render_template("session.html", session=session, rows=summary["rows"], quality=summary["timing"],
                            summary=summary["conditions"], model=summary["model"], photometry=summary["photometry"],
-                           saved_adjustment=saved, vectors=vectors_plot(summary["conditions"]),
-                           histogram=histogram_plot(summary["timing"]), display=display,
-                           progress=progress(g.db, session_id), formats=SESSION_FORMATS)
+                           saved_adjustment=saved, display=display,
+                           progress=progress(g.db, session_id), formats=SESSION_FORMATS,
+                           figures=list(session_specs(summary)))
+
+
+@blueprint.get("/sessions/<int:session_id>/figures/<figure>.<fmt>")
+def session_figure(session_id: int, figure: str, fmt: str):
+    specs = session_specs(session_summary(g.db, session_or_404(session_id)))
+    return _figure(specs, figure, fmt, f"session-{session_id}_{figure}")
 
 
 @blueprint.get("/sessions/<int:session_id>/export.<fmt>")
@@ -143,7 +123,25 @@ def _protocol_or_404(name: str) -> str:
 def study(name: str):
     name = _protocol_or_404(name)
     summary = study_summary(g.db, name, study_sessions(g.db, name))
-    return render_template("study.html", study=summary, formats=STUDY_FORMATS)
+    return render_template("study.html", study=summary, formats=STUDY_FORMATS, figures=list(study_specs(summary)))
+
+
+@blueprint.get("/studies/<name>/figures/<figure>.<fmt>")
+def study_figure(name: str, figure: str, fmt: str):
+    name = _protocol_or_404(name)
+    specs = study_specs(study_summary(g.db, name, study_sessions(g.db, name)))
+    return _figure(specs, figure, fmt, f"study_{name.removesuffix('.json')}_{figure}")
+
+
+def _figure(specs: dict, figure: str, fmt: str, stem: str) -> Response:
+    if figure not in specs:
+        raise NotFound(f"there is no figure {figure!r} here; these are: {', '.join(specs) or 'none'}")
+    if fmt not in FIGURE_FORMATS:
+        raise NotFound(f"figures download as {' or '.join(FIGURE_FORMATS)}, not {fmt!r}")
+    data = render(specs[figure], fmt, current_store().root / "figures")
+    disposition = "attachment" if request.args.get("download") else "inline"
+    return Response(data, mimetype=FIGURE_FORMATS[fmt], headers={
+        "Content-Disposition": f'{disposition}; filename="{stem}.{fmt}"', "Cache-Control": "private, max-age=60"})
 
 
 @blueprint.get("/api/studies/<name>")
