@@ -33,7 +33,7 @@ def test_the_study_page_pools_participants_with_an_interval_over_participants(st
     assert pooled["ci95"] == pytest.approx([-0.037421, -0.012579], abs=1e-5)
     page = client.get("/studies/contrast_match.json")
     assert page.status_code == 200 and "Pooled" in page.text and "P03" in page.text
-    assert "signed component along the adapting/inducing direction (dkl)" in page.text.lower()
+    assert "Signed component along the adapting/inducing direction (DKL)" in page.text
 
 
 def test_an_unknown_study_is_a_clear_404(study, client):

@@ -13,6 +13,7 @@ import hashlib
 import io
 import json
 import os
+import textwrap
 import threading
 from pathlib import Path
 
@@ -21,7 +22,7 @@ import numpy as np
 __all__ = ["session_specs", "study_specs", "render", "FORMATS", "FIGURE_VERSION"]
 
 FORMATS = {"svg": "image/svg+xml", "pdf": "application/pdf"}
-FIGURE_VERSION = 1  # part of the cache key: raise it when the drawing code changes
+FIGURE_VERSION = 3  # part of the cache key: raise it when the drawing code changes
 METADATA = {"svg": {"Date": None, "Creator": "stimlab"}, "pdf": {"CreationDate": None, "Creator": "stimlab"}}
 DRAWING = threading.Lock()  # matplotlib's settings are process-wide; one figure is drawn at a time
 # Okabe & Ito (2008) colour-blind-safe palette, common practice for figures in vision science.
@@ -48,8 +49,10 @@ def _vectors(spec: dict, figure) -> None:
         points = np.array(condition["points"])
         ax.scatter(points[:, 0], points[:, 1], s=12, color=colour, alpha=0.45, linewidths=0,
                    label=f"{condition['label']}")
-        ax.annotate(condition["label"], xy=condition["adapt"], xytext=(4, 4), textcoords="offset points",
-                    fontsize=8, color=colour)
+        unit = np.array(condition["adapt"]) / (np.linalg.norm(condition["adapt"]) or 1)
+        ax.annotate(condition["label"], xy=condition["adapt"], xytext=tuple(8 * unit), textcoords="offset points",
+                    fontsize=8, color=colour, ha="left" if unit[0] > 0.3 else "right" if unit[0] < -0.3 else "center",
+                    va="bottom" if unit[1] > 0.3 else "top" if unit[1] < -0.3 else "center")
     ax.plot([], [], color="0.4", linestyle="--", label=spec["source_name"])
     ax.plot([], [], color="0.4", lw=2, label=f"mean {spec['response_name']}")
     ax.axhline(0, color="0.85", lw=0.8, zorder=0)
@@ -102,7 +105,8 @@ def _study(spec: dict, figure) -> None:
                 label="mean over participants, 95 % CI")
     ax.axhline(0, color="0.85", lw=0.8, zorder=0)
     ax.set_xticks(range(len(labels)), labels, rotation=20, ha="right", fontsize=8)
-    ax.set(ylabel=spec["measure"], title=spec["title"])
+    ax.set_ylabel(textwrap.fill(spec["measure"], 34))
+    ax.set_title(textwrap.fill(spec["title"], 60), fontsize=9)
     ax.legend(fontsize=8, frameon=False)
 
 
