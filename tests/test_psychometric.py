@@ -35,8 +35,10 @@ def test_yes_no_uses_a_zero_guess_rate():
     assert fit["guess"] == 0.0 and fit["ci95"][0] < THRESHOLD < fit["ci95"][1]
 
 
-def test_too_few_trials_say_so_instead_of_fitting():
+def test_too_few_trials_or_flat_data_say_so_instead_of_fitting():
     assert "error" in fit_threshold([0.02, 0.02, 0.03], [True, False, True])
+    flat = fit_threshold(np.repeat([0.01, 0.02, 0.03, 0.04], 20), np.arange(80) % 5 != 0)  # 80 % everywhere
+    assert "outside the tested range" in flat["error"]
 
 
 def test_a_staircase_session_reports_the_fitted_threshold(app, client):

@@ -19,7 +19,7 @@ Practice trials are left out of every measure; a dry-run session is summarised b
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
+from scipy.special import stdtrit
 
 from ..colorimetry.spaces import LMS_to_DKL
 from .psychometric import fit_threshold
@@ -43,7 +43,7 @@ def mean_ci(values) -> dict | None:
     if values.size < 2:
         return {"mean": mean, "sd": None, "n": 1, "ci95": None}
     sd = float(values.std(ddof=1))
-    half = float(stats.t.ppf(0.975, values.size - 1) * sd / np.sqrt(values.size))
+    half = float(stdtrit(values.size - 1, 0.975) * sd / np.sqrt(values.size))  # Student t quantile
     return {"mean": mean, "sd": sd, "n": int(values.size), "ci95": [round(mean - half, 6), round(mean + half, 6)]}
 
 
