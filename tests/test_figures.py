@@ -54,3 +54,23 @@ def test_the_study_page_has_a_figure_per_measure(matched, client):
     assert "/studies/contrast_match.json/figures/along.svg" in page
     svg = client.get("/studies/contrast_match.json/figures/along.svg").text
     assert "mean over participants, 95 % CI" in svg and "surround=+S" in svg
+
+
+def test_a_session_without_responses_has_a_page_and_its_timing_figure(app, client):
+    session_id = sim.create(client, "contrast_match.json", "P09")
+    page = client.get(f"/sessions/{session_id}")
+    assert page.status_code == 200 and "figures/vectors.svg" not in page.text
+    assert client.get(f"/sessions/{session_id}/figures/intervals.svg").status_code == 200
+    assert client.get(f"/sessions/{session_id}/export.csv").status_code == 200
+    assert client.get(f"/sessions/{session_id}/export.bids").status_code == 200
+
+
+def test_a_flat_staircase_draws_its_data_without_a_curve(tmp_path):
+    from stimlab.sessions.figures import session_specs
+
+    summary = {"timing": {"histogram": {"edges_ms": [0, 1], "counts": [0]}, "period_ms": 16.7}, "model": None,
+               "rows": [], "conditions": [{"label": "single", "threshold": {
+                   "levels": [[0.01, 8, 10], [0.02, 8, 10]], "threshold": 9.0, "slope": 1.0, "error": "outside"}}]}
+    spec = session_specs(summary)["psychometric"]
+    assert "threshold" not in spec["conditions"][0]
+    assert render(spec, "svg", tmp_path).startswith(b"<?xml")

@@ -107,7 +107,8 @@ def _columns(rows: list[dict], first=()) -> list[str]:
 def _events_sidecar(columns, levels_of_condition) -> dict:
     sidecar = dictionary(columns)
     sidecar["trial_type"]["Levels"] = EVENT_LEVELS
-    sidecar["condition"]["Levels"] = levels_of_condition
+    if "condition" in sidecar:  # a session without a phase onset yet has only the three required columns
+        sidecar["condition"]["Levels"] = levels_of_condition
     return sidecar
 
 

@@ -131,7 +131,8 @@ def session_specs(summary: dict) -> dict[str, dict]:
                             "response_name": "match" if induction else "null"}
     fits = [{"label": c["label"], **{k: c["threshold"][k] for k in ("levels", "threshold", "slope", "guess", "lapse",
                                                                      "ci95") if k in c["threshold"]}}
-            for c in summary["conditions"] if "threshold" in c]
+            if "error" not in c["threshold"] else {"label": c["label"], "levels": c["threshold"]["levels"]}
+            for c in summary["conditions"] if "threshold" in c and c["threshold"]["levels"]]
     if fits:
         task = next((c["threshold"].get("guess") for c in summary["conditions"] if "threshold" in c), 0.5)
         specs["psychometric"] = {"kind": "psychometric", "conditions": fits,

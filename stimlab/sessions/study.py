@@ -25,6 +25,8 @@ MEASURES = {
 
 def _value(entry: dict, measure: str):
     value = entry.get(measure)
+    if isinstance(value, dict) and "error" in value:  # a fit the data could not constrain is no measure
+        return None
     if isinstance(value, dict):
         return value.get("mean", value.get("threshold"))
     return value
