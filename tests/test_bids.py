@@ -33,7 +33,7 @@ def study(app, client):
     def respond(trial, condition):
         return sim.adjustment(MATCH, condition["response"])
 
-    ids = [sim.run(app, client, "contrast_match.json", code, respond) for code in ("P01", "P-02", "P01")]
+    ids = [sim.run(app, client, "contrast_match.json", code, respond) for code in ("P01", "P-02", "P01", "P_02")]
     return app, ids
 
 
@@ -51,8 +51,11 @@ def test_a_study_exports_as_a_bids_dataset_that_the_validator_accepts(study, tmp
     # runs numbered within the participant; the task label is the protocol's file name in letters and digits
     assert beh == ["sub-P01/beh/sub-P01_task-contrastmatch_run-1_beh.tsv",
                    "sub-P01/beh/sub-P01_task-contrastmatch_run-2_beh.tsv",
-                   "sub-P02/beh/sub-P02_task-contrastmatch_run-1_beh.tsv"]
-    assert [r["participant_id"] for r in tsv(out / "participants.tsv")] == ["sub-P01", "sub-P02"]
+                   "sub-P02/beh/sub-P02_task-contrastmatch_run-1_beh.tsv",
+                   "sub-P02x2/beh/sub-P02x2_task-contrastmatch_run-1_beh.tsv"]
+    # P-02 and P_02 are two people whose codes give the same letters and digits: two labels, codes kept
+    assert [(r["participant_id"], r["participant_code"]) for r in tsv(out / "participants.tsv")] == [
+        ("sub-P01", "P01"), ("sub-P02", "P-02"), ("sub-P02x2", "P_02")]
     description = json.loads((out / "dataset_description.json").read_text())
     assert description["BIDSVersion"] == "1.9.0" and description["DatasetType"] == "raw"
     events = tsv(out / "sub-P01/beh/sub-P01_task-contrastmatch_run-1_events.tsv")

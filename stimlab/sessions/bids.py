@@ -8,9 +8,10 @@ Layout::
     sub-<label>/beh/sub-<label>_task-<task>_run-<n>_events.tsv  (+ .json)
 
 The participant label is the participant code with everything but letters and digits removed (BIDS labels are
-alphanumeric); the task label is the protocol file's name the same way; runs are numbered 1, 2, … per participant
-and task in the order the sessions started. ``_beh.tsv`` is the trial table, ``_events.tsv`` one row per phase
-onset. Times are seconds from the session's first frame; empty cells are ``n/a``; booleans ``true``/``false``.
+alphanumeric; ``x2``, ``x3`` … added where two codes would collide, the code itself kept in participants.tsv);
+the task label is the protocol file's name the same way; runs are numbered 1, 2, … per participant and task in
+the order the sessions started. ``_beh.tsv`` is the trial table, ``_events.tsv`` one row per phase onset. Times
+are seconds from the session's first frame; empty cells are ``n/a``; booleans ``true``/``false``.
 """
 
 from __future__ import annotations
@@ -116,16 +117,21 @@ def bids_files(db, sessions: list[dict], *, name: str, authors=()) -> dict[str, 
     """The dataset as ``{relative path: content}`` for ``sessions`` (one, or all of a study's), in start order."""
     files: dict[str, bytes] = {}
     runs: dict[tuple, int] = {}
-    participants: list[str] = []
+    labels: dict[str, str] = {}  # participant code -> BIDS label, unique even where two codes share letters and digits
 
     def put(path, text):
         files[path] = (json.dumps(text, indent=2, ensure_ascii=False) + "\n" if isinstance(text, dict)
                        else text).encode("utf-8")
 
     for session in sorted(sessions, key=lambda s: (s["started_at"], s["id"])):
-        sub, task = bids_label(session["participant"]), task_label(session)
-        if sub not in participants:
-            participants.append(sub)
+        code = session["participant"]
+        if code not in labels:
+            label = bids_label(code)
+            taken = set(labels.values())
+            sub = label if label not in taken else next(f"{label}x{n}" for n in range(2, 10**6)
+                                                        if f"{label}x{n}" not in taken)
+            labels[code] = sub
+        sub, task = labels[code], task_label(session)
         run = runs[sub, task] = runs.get((sub, task), 0) + 1
         stem = f"sub-{sub}/beh/sub-{sub}_task-{task}_run-{run}"
         data = session["compiled"]
@@ -142,9 +148,12 @@ def bids_files(db, sessions: list[dict], *, name: str, authors=()) -> dict[str, 
         event_columns = _columns(events, ("onset", "duration", "trial_type"))
         put(f"{stem}_events.tsv", tsv(events, event_columns))
         put(f"{stem}_events.json", _events_sidecar(event_columns, conditions))  # column entries only
-    put("participants.tsv", tsv([{"participant_id": f"sub-{p}"} for p in participants], ["participant_id"]))
+    put("participants.tsv", tsv([{"participant_id": f"sub-{label}", "participant_code": code}
+                                 for code, label in labels.items()], ["participant_id", "participant_code"]))
     put("participants.json", {"participant_id": {"Description": "BIDS participant label: the participant's "
-                                                                "pseudonymous code, letters and digits only"}})
+                                                                "pseudonymous code, letters and digits only (xN "
+                                                                "added where two codes would give the same label)"},
+                              "participant_code": {"Description": "The participant's pseudonymous code in stimlab"}})
     put("dataset_description.json", {"Name": name, "BIDSVersion": BIDS_VERSION, "DatasetType": "raw",
                                      "Authors": list(authors) or ["Vale Street Colour Vision Laboratory"],
                                      "GeneratedBy": [{"Name": "stimlab", "Version": __version__}]})
