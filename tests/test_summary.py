@@ -60,3 +60,22 @@ def test_the_session_page_shows_signed_components_not_a_ratio_of_lengths(matched
     assert "Along adapting direction" in page and "contrast" in page and "Strength = |null|" not in page
     assert "95 % confidence interval" in page and "/figures/vectors.svg" in page
 
+
+
+def test_an_after_image_null_along_the_adapter_is_positive_for_either_polarity(app, client):
+    """afterimage_null.json: adapter = polarity × axis; a null at half the adapter's own contrast, position
+    0.5 × polarity (positions are in units of the axis), lies along the adapter: +0.5 of it."""
+    def respond(trial, condition):
+        polarity = {"plus": 1, "minus": -1}[condition["labels"]["polarity"]]
+        return sim.adjustment(0.5 * polarity, condition["response"])
+
+    session_id = sim.run(app, client, "afterimage_null.json", "P05", respond)
+    db = app.extensions["stimlab.store"].connect()
+    summary = session_summary(db, get_session(db, session_id))
+    assert len(summary["conditions"]) == 4
+    for entry in summary["conditions"]:
+        assert entry["along_relative"]["mean"] == pytest.approx(0.5, abs=0.01), entry["label"]
+        assert entry["orthogonal"]["mean"] == pytest.approx(0.0, abs=1e-6)
+    row = summary["rows"][0]
+    assert isinstance(row["test_disc_dkl_lm"], float) and isinstance(row["test_disc_device_r"], int)
+    assert isinstance(row["response_position"], float)  # one axis: one column
