@@ -2,6 +2,7 @@
 package bids-validator, installed into .tools/ by make test)."""
 
 import csv
+import io
 import json
 import os
 import subprocess
@@ -89,10 +90,18 @@ def test_the_validator_does_find_errors(tmp_path):
     assert json.loads(run.stdout)["issues"]["errors"]
 
 
-def test_one_session_downloads_as_a_zipped_dataset(study, client):
+def test_one_session_downloads_as_a_zipped_dataset(study, client, tmp_path):
     app, ids = study
     answer = client.get(f"/sessions/{ids[2]}/export.bids")
     assert answer.status_code == 200 and answer.mimetype == "application/zip"
-    names = zipfile.ZipFile(__import__("io").BytesIO(answer.data)).namelist()
+    archive = zipfile.ZipFile(io.BytesIO(answer.data))
+    names = archive.namelist()
     assert any(n.endswith("sub-P01/beh/sub-P01_task-contrastmatch_run-1_events.tsv") for n in names)
     assert any(n.endswith("/participants.tsv") for n in names)
+    checker = validator()
+    if checker is None:
+        pytest.skip("the BIDS validator is not installed (make test installs it into .tools/)")
+    archive.extractall(tmp_path / "download")
+    (folder,) = list((tmp_path / "download").iterdir())
+    run = subprocess.run([str(checker), str(folder), "--json"], capture_output=True, text=True, timeout=300)
+    assert json.loads(run.stdout)["issues"]["errors"] == []
