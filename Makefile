@@ -4,6 +4,8 @@ VENV := .venv
 PY := $(VENV)/bin/python
 STAMP := $(VENV)/.installed
 
+BIDS_VALIDATOR := .tools/node_modules/.bin/bids-validator
+
 .PHONY: demo test
 
 $(STAMP): pyproject.toml
@@ -24,5 +26,17 @@ test: $(STAMP)
 	    echo "/usr/bin/chromium is missing: run 'sudo apt-get install chromium' (browser tests need it)"; exit 1; \
 	  fi; \
 	fi
+	@if [ ! -x $(BIDS_VALIDATOR) ]; then \
+	  if ! command -v npm >/dev/null; then \
+	    if [ "$$(id -u)" = 0 ]; then \
+	      echo "installing Debian's nodejs and npm for the BIDS validator"; \
+	      apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq nodejs npm >/dev/null; \
+	    else \
+	      echo "npm is missing: run 'sudo apt-get install nodejs npm' (the BIDS export test needs it)"; exit 1; \
+	    fi; \
+	  fi; \
+	  echo "installing the BIDS validator into .tools/"; \
+	  mkdir -p .tools && npm install --prefix .tools --no-audit --no-fund --loglevel=error bids-validator@1.15.0 >/dev/null; \
+	fi
 	$(VENV)/bin/ruff check stimlab tests benchmarks
-	$(PY) -m pytest
+	STIMLAB_BIDS_VALIDATOR=$(BIDS_VALIDATOR) $(PY) -m pytest

@@ -48,7 +48,10 @@ def test_the_frame_log_csv_has_one_row_per_frame_with_exact_times(logged):
     assert frames_csv(db, session["id"], out) == 51
     rows = list(csv.DictReader(io.StringIO(out.getvalue())))
     assert [float(r["t_raf"]) for r in rows] == stamps
-    assert rows[41]["dropped"] == "1" and rows[0]["drawn"] == "512,498,530" and rows[0]["trial"] == ""
+    assert rows[41]["dropped"] == "1" and rows[0]["trial"] == ""
+    # the drawn levels are integer columns per stimulus, not "512,498,530" text
+    assert "drawn" not in rows[0] and rows[0]["drawn_adapter_device_r"] == "512"
+    assert (rows[0]["drawn_adapter_device_g"], rows[0]["drawn_adapter_device_b"]) == ("498", "530")
 
 
 

@@ -17,7 +17,7 @@ import pytest
 from browser_support import Server
 
 ROOT = Path(__file__).parents[1]
-SKIP = shutil.ignore_patterns(".venv", ".git", "instance", "build", "*.egg-info", "__pycache__", "test-artifacts")
+SKIP = shutil.ignore_patterns(".venv", ".tools", ".git", "instance", "build", "*.egg-info", "__pycache__", "test-artifacts")
 
 
 @pytest.fixture(scope="module")

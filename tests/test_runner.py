@@ -130,10 +130,14 @@ def test_a_session_end_to_end(server, page):
     gap = onsets[1][2]
     assert gap["frame"] - adapt["frame"] == data["schedules"]["first"][0]["frames"] == 30
 
-    bids = page.request.get(f"{server.url}/sessions/{session_id}/export.bids").text().splitlines()
+    import zipfile
+
+    archive = zipfile.ZipFile(io.BytesIO(page.request.get(f"{server.url}/sessions/{session_id}/export.bids").body()))
+    events_file = next(n for n in archive.namelist() if n.endswith("_events.tsv"))
+    bids = archive.read(events_file).decode().splitlines()
     assert bids[0].split("\t")[:3] == ["onset", "duration", "trial_type"]
     assert len(bids) == 1 + 6  # three phases in each of two trials
-    sidecar = page.request.get(f"{server.url}/sessions/{session_id}/export.sidecar").json()
+    sidecar = json.loads(archive.read(events_file.replace(".tsv", ".json")))
     assert {"onset", "duration", "trial_type"} <= set(sidecar)
     page.goto(f"{server.url}/sessions/{session_id}")
     page.screenshot(path=str(ARTIFACTS / "session.png"), full_page=True)

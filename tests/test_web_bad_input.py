@@ -65,7 +65,7 @@ def test_an_event_with_list_data_is_refused_and_exports_keep_working(app, sessio
     assert post(app, session_id, good, token).status_code == 200
     db = app.extensions["stimlab.store"].connect()
     session_record = get_session(db, session_id)
-    assert trial_rows(db, session_record)[0]["response_rt_ms"] == 412.5
+    assert trial_rows(db, session_record)[0]["response_time_s"] == 0.4125
 
 
 @pytest.mark.parametrize("event,field", [

@@ -1,8 +1,10 @@
 """Starting and ending sessions through the API: dry runs, ending early with a reason, and a protocol whose text
 colour fails the audit."""
 
+import io
 import json
 import re
+import zipfile
 from pathlib import Path
 
 PROTOCOLS = Path(__file__).parents[1] / "protocols"
@@ -75,12 +77,12 @@ def test_the_session_page_ends_a_session_whose_runner_is_gone(client):
 def test_a_dry_runs_exports_say_so_in_their_names(client):
     session_id = create(client, dry_run_factor=0.1).get_json()["id"]
     names = {fmt: client.get(f"/sessions/{session_id}/export.{fmt}").headers["Content-Disposition"]
-             for fmt in ("csv", "json", "bids", "sidecar", "frames")}
+             for fmt in ("csv", "json", "bids", "frames")}
     assert names["csv"].endswith('_dry-run_trials.csv"') and names["json"].endswith('_dry-run.json"')
-    assert names["frames"].endswith('_dry-run_frames.csv"')
-    # BIDS entity order: sub, task, acq, run (BIDS specification, "entity table").
-    assert names["bids"].endswith(f'sub-T01_task-stimlab_acq-dryrun_run-{session_id}_events.tsv"')
-    assert names["sidecar"].endswith(f'sub-T01_task-stimlab_acq-dryrun_run-{session_id}_events.json"')
+    assert names["frames"].endswith('_dry-run_frames.csv"') and names["bids"].endswith('_dry-run_bids.zip"')
+    archive = zipfile.ZipFile(io.BytesIO(client.get(f"/sessions/{session_id}/export.bids").data))
+    # BIDS entity order: sub, task, acq, run (BIDS specification, "entity table"); runs count per participant.
+    assert any(re.search(r"/beh/sub-T01_task-[a-z0-9]+_acq-dryrun_run-1_events\.tsv$", n) for n in archive.namelist())
 
 
 def test_the_run_page_shows_the_sessions_duration_with_its_pre_adaptation(client):

@@ -1,71 +1,92 @@
-"""``stimlab export``: a session's data for analysis, from the data folder."""
+"""``stimlab export``: a session's or a whole study's data for analysis, from the data folder.
+
+The formats and their content come from :mod:`stimlab.sessions.export` (the web app's downloads use the same
+dispatch); this module only chooses the session or study and writes the files.
+"""
 
 from __future__ import annotations
 
-import json
+import io
+import zipfile
 from pathlib import Path
 
 from ..errors import InputError
 from .arguments import whole
 
+SESSION_HELP = ("csv: one row per trial (+ data dictionary and provenance beside it); frames: the frame log (+ the "
+                "same sidecars); json: everything; summary: per-condition measures; bids: a BIDS dataset (a folder, "
+                "or a .zip); dictionary, frames-dictionary, provenance: one sidecar alone")
+STUDY_HELP = "with --study: csv, dictionary, summary, bids (folder or .zip), parquet (folder or .zip)"
+
 
 def register(sub, numbers) -> None:
+    from ..sessions.export import SESSION_FORMATS, STUDY_FORMATS
     from ..sessions.store import default_data_dir
 
-    export = sub.add_parser("export", help="export a session: trials CSV, everything as JSON, BIDS events")
-    export.add_argument("session", type=whole(1, 2**63 - 1), metavar="SESSION", help="session number (from the Sessions page)")
-    export.add_argument("--format", choices=("csv", "json", "bids", "frames"), default="csv",
-                        help="csv: one row per trial; json: everything; bids: *_events.tsv and its .json "
-                             "sidecar; frames: the frame log (default csv)")
-    export.add_argument("-o", "--output", required=True, metavar="PATH", help="file to write")
+    export = sub.add_parser("export", help="export a session or a whole study: trials, frames, BIDS, Parquet, JSON")
+    export.add_argument("session", type=whole(1, 2**63 - 1), nargs="?", metavar="SESSION",
+                        help="session number (from the Sessions page); leave out with --study")
+    export.add_argument("--study", metavar="PROTOCOL", help="export every session of this protocol file instead")
+    export.add_argument("--format", choices=sorted(set(SESSION_FORMATS) | set(STUDY_FORMATS)), default="csv",
+                        help=f"{SESSION_HELP}; {STUDY_HELP} (default csv)")
+    export.add_argument("-o", "--output", required=True, metavar="PATH", help="file (or folder) to write")
     export.add_argument("--data", type=Path, default=None, metavar="DIR",
                         help=f"data folder (default {default_data_dir()})")
     export.set_defaults(run=run)
 
 
+def _write(exported, output: Path) -> list[Path]:
+    content = exported.content
+    if exported.mimetype == "application/zip" and output.suffix != ".zip":
+        written = []
+        with zipfile.ZipFile(io.BytesIO(content)) as archive:
+            for name in archive.namelist():
+                target = output / name.split("/", 1)[1]
+                target.parent.mkdir(parents=True, exist_ok=True)
+                target.write_bytes(archive.read(name))
+                written.append(target)
+        return written
+    if isinstance(content, bytes):
+        output.write_bytes(content)
+    elif isinstance(content, str):
+        output.write_text(content, encoding="utf-8")
+    else:
+        with output.open("w", encoding="utf-8", newline="") as out:
+            for chunk in content:
+                out.write(chunk)
+    return [output]
+
+
 def run(args) -> int:
-    from ..sessions.export import (
-        BIDS_SIDECAR,
-        bids_events,
-        events_tsv,
-        frames_csv,
-        rows_to_csv,
-        session_json,
-        trial_rows,
-    )
+    from ..sessions.export import SESSION_FORMATS, SIDECARS, STUDY_FORMATS, session_export, study_export
     from ..sessions.ingest import get_session
-    from ..sessions.store import Store, default_data_dir
+    from ..sessions.store import Store, default_data_dir, safe_protocol_name
 
     data = args.data or default_data_dir()
     if not (Path(data) / "stimlab.sqlite").exists():
         raise InputError("no stimlab database here; give the folder 'stimlab serve' uses with --data",
                          file=str(data), field="--data")
+    if (args.session is None) == (args.study is None):
+        raise InputError("give either a SESSION number or --study PROTOCOL (not both)", field="SESSION")
     store = Store(data)
     db = store.connect()
-    session = get_session(db, args.session)
-    if session is None:
-        raise InputError(f"there is no session {args.session} in {data}", field="SESSION")
     output = Path(args.output)
     output.parent.mkdir(parents=True, exist_ok=True)
-    if args.format == "csv":
-        rows = trial_rows(db, session)
-        output.write_text(rows_to_csv(rows), encoding="utf-8")
-        print(f"wrote {output}: {len(rows)} trials")
-    elif args.format == "json":
-        profile = store.display(db, session["display_id"])["profile"]
-        output.write_text(json.dumps(session_json(db, session, profile), indent=1), encoding="utf-8")
-        print(f"wrote {output}")
-    elif args.format == "bids":
-        if not output.name.endswith("_events.tsv"):
-            raise InputError("BIDS event files are named *_events.tsv, e.g. sub-P01_task-null_events.tsv",
-                             field="--output")
-        rows = bids_events(db, session)
-        output.write_text(events_tsv(rows), encoding="utf-8")
-        sidecar = output.with_name(output.name[: -len(".tsv")] + ".json")
-        sidecar.write_text(json.dumps(BIDS_SIDECAR, indent=2), encoding="utf-8")
-        print(f"wrote {output} ({len(rows)} events) and {sidecar}")
+    if args.study is not None:
+        if args.format not in STUDY_FORMATS:
+            raise InputError(f"a study exports as {', '.join(STUDY_FORMATS)}", field="--format")
+        written = _write(study_export(db, store, safe_protocol_name(args.study), args.format), output)
     else:
-        with output.open("w", encoding="utf-8") as out:
-            count = frames_csv(db, session["id"], out)
-        print(f"wrote {output}: {count} frames")
+        if args.format not in SESSION_FORMATS:
+            raise InputError(f"a session exports as {', '.join(SESSION_FORMATS)}", field="--format")
+        session = get_session(db, args.session)
+        if session is None:
+            raise InputError(f"there is no session {args.session} in {data}", field="SESSION")
+        written = _write(session_export(db, store, session, args.format), output)
+        stem = output.with_suffix("")
+        for sidecar in SIDECARS.get(args.format, ()):
+            suffix = "_provenance.json" if sidecar == "provenance" else ".json"
+            written += _write(session_export(db, store, session, sidecar), stem.with_name(stem.name + suffix))
+    print(f"wrote {len(written)} file{'s' if len(written) != 1 else ''}: " + ", ".join(map(str, written[:6]))
+          + (" …" if len(written) > 6 else ""))
     return 0

@@ -1,9 +1,9 @@
-"""Session exports for analysis: tidy CSV (one row per trial), JSON with everything, BIDS-style events with a
-sidecar, and the frame log. Reads a session from the SQLite database; no web import.
+"""Session and study exports, one dispatch for the ``stimlab export`` command and the web routes.
 
-Response colours are recomputed from the compiled affine map (``origin_lms + position · axis_lms``), the same map
-the runner's ladder was built from, so the exported cone contrast and DKL values are those of the device levels
-the participant saw.
+Each format is one file (:class:`ExportFile`); a table comes with a JSON data dictionary and a provenance
+sidecar (:data:`SIDECARS`). Tables: the trial table (:mod:`.trials`), the frame table (:mod:`.frame_table`);
+archives: everything as JSON, a BIDS behavioural dataset (:mod:`.bids`, zipped), a whole study as Parquet
+(:mod:`.parquet`, zipped); and the session summary (:mod:`.summary`) as JSON. No web import.
 """
 
 from __future__ import annotations
@@ -11,91 +11,44 @@ from __future__ import annotations
 import csv
 import io
 import json
+import zipfile
+from dataclasses import dataclass
 
-import numpy as np
-
-from ..colorimetry.spaces import LMS_to_DKL
+from ..errors import InputError
 from ..version import __version__
-from .events import event_data
-from .frame_log import FRAME_COLUMNS, FrameBlock
-from .ingest import frame_blocks, iter_frames
+from .bids import bids_events, bids_files, tsv
+from .dictionary import dictionary
+from .frame_table import frame_columns, frames_csv_chunks
+from .ingest import iter_frames
+from .provenance import provenance
+from .timing import timing
+from .trials import response_LMS, session_events, trial_rows
 
-__all__ = ["trial_rows", "session_json", "bids_events", "BIDS_SIDECAR", "frames_csv", "frames_csv_chunks", "rows_to_csv",
-           "timing"]
+__all__ = ["ExportFile", "SESSION_FORMATS", "STUDY_FORMATS", "SIDECARS", "session_export", "study_export",
+           "study_sessions", "provenance", "rows_to_csv", "trial_rows", "timing", "session_json", "bids_events",
+           "events_tsv", "frames_csv", "frames_csv_chunks", "response_LMS"]
 
-AXES = ("L", "M", "S")
-CSV_CHUNK_BLOCKS = 64  # stored blocks formatted together: about a minute of frames, a few MB at most
-DKL = ("lum", "lm", "s")
-
-
-def _events(db, session_id: int) -> list[dict]:
-    return [{"seq": r[0], "t": r[1], "kind": r[2], "trial": r[3], "phase": r[4], **event_data(r[5])}
-            for r in db.execute("SELECT seq, t_ms, kind, trial, phase, data FROM events WHERE session_id = ? "
-                                "ORDER BY seq", (session_id,))]
-
-
-def _spaces(LMS, data) -> dict:
-    LMS_0 = np.array(data["background"]["lms"])
-    obs = data["observer"]
-    LMS = np.asarray(LMS, dtype=float)
-    return {"cone_contrast": (LMS / LMS_0 - 1).tolist(), "dkl": LMS_to_DKL(LMS, LMS_0, obs["w_L"], obs["w_M"]).tolist()}
+SESSION_FORMATS = {
+    "csv": "trials (CSV)", "dictionary": "trials data dictionary (JSON)", "frames": "frame log (CSV)",
+    "frames-dictionary": "frame log data dictionary (JSON)", "provenance": "provenance (JSON)",
+    "bids": "BIDS dataset (zip)", "summary": "summary (JSON)", "json": "everything (JSON)",
+}
+STUDY_FORMATS = {"csv": "all trials (CSV)", "dictionary": "trials data dictionary (JSON)",
+                 "summary": "pooled summary (JSON)", "bids": "BIDS dataset (zip)", "parquet": "Parquet dataset (zip)"}
+SIDECARS = {"csv": ("dictionary", "provenance"), "frames": ("frames-dictionary", "provenance")}
 
 
-def _colour_columns(prefix: str, LMS, device, data) -> dict:
-    spaces = _spaces(LMS, data)
-    row = {f"{prefix}_cone_contrast_{a}": round(v, 6) for a, v in zip(AXES, spaces["cone_contrast"])}
-    row |= {f"{prefix}_dkl_{a}": round(v, 6) for a, v in zip(DKL, spaces["dkl"])}
-    row |= {f"{prefix}_device_{c}": v for c, v in zip("rgb", device or (None, None, None))}
-    return row
+@dataclass
+class ExportFile:
+    """One exported file: its name, media type and content (text, bytes, or an iterator of text chunks)."""
 
-
-def response_LMS(response: dict, position) -> np.ndarray:
-    """Cone excitations at an adjustment position (a number, or two for a plane)."""
-    position = np.atleast_1d(np.asarray(position, dtype=float))
-    return np.array(response["origin_lms"]) + position @ np.array(response["axis_lms"])
-
-
-def trial_rows(db, session: dict) -> list[dict]:
-    """One row per trial: condition, stimuli and response in cone contrast, DKL and device levels, timing flags."""
-    data = session["compiled"]
-    events = _events(db, session["id"])
-    ends = {e["trial"]: e for e in events if e["kind"] == "trial_end"}
-    aborted = {}
-    for e in events:
-        if e["kind"] == "trial_aborted":
-            aborted[e["trial"]] = aborted.get(e["trial"], 0) + 1
-    timeouts = {e["trial"] for e in events if e["kind"] == "timeout"}
-    rows = []
-    for trial in data["trials"]:
-        condition = data["conditions"][trial["condition"]]
-        end = ends.get(trial["index"])
-        row = {"session": session["id"], "participant": session["participant"],
-               "protocol": data["protocol"]["title"], "display_sha256": data["display"]["sha256"],
-               "observer": data["observer"]["key"], "trial": trial["index"], "block": trial["block"],
-               # practice trials and dry runs are kept but marked: analysis leaves them out
-               "practice": bool(trial.get("practice")), "dry_run": (data.get("dry_run") or {}).get("factor"),
-               "condition": condition["label"], **{f"var_{k}": v for k, v in condition["labels"].items()},
-               "target_side": trial.get("target_side"), "completed": end is not None,
-               "restarts": aborted.get(trial["index"], 0)}
-        for name, stimulus in condition["stimuli"].items():
-            if not np.allclose(stimulus["colour"]["cone_contrast"], 0):
-                row |= _colour_columns(name, stimulus["colour"]["lms"], stimulus["colour"]["device"], data)
-        result = (end or {}).get("response") or {}
-        row |= {"response_method": result.get("method"), "response_key": result.get("key"),
-                "response_correct": result.get("correct"), "response_rt_ms": result.get("rt_ms"),
-                "timed_out": trial["index"] in timeouts, "dropped_frames": (end or {}).get("dropped_frames")}
-        response = condition.get("response")
-        if response and response["kind"] == "adjustment" and "position" in result:
-            position = [round(p, 9) for p in result["position"]]  # ladder values, free of float noise
-            row["response_position"] = json.dumps(position) if len(position) > 1 else position[0]
-            row |= _colour_columns("response", response_LMS(response, result["position"]), result.get("device"), data)
-        if response and response["kind"] == "staircase":
-            row["staircase_value"] = (end or {}).get("staircase_value")
-        rows.append(row)
-    return rows
+    name: str
+    mimetype: str
+    content: object
 
 
 def rows_to_csv(rows: list[dict]) -> str:
+    """Rows as CSV with the union of their columns; None is an empty cell, booleans True/False."""
     columns = []
     for row in rows:
         columns += [k for k in row if k not in columns]
@@ -106,38 +59,11 @@ def rows_to_csv(rows: list[dict]) -> str:
     return out.getvalue()
 
 
-def timing(db, session: dict) -> dict:
-    """Frame-timing quality: dropped frames, the frame-interval histogram, onset error per phase."""
-    data = session["compiled"]
-    period = 1000.0 / data["display"]["refresh_hz"]
-    blocks = list(frame_blocks(db, session["id"]))
-    stamps = np.concatenate([b.columns["t_raf"][~b.in_phase("pause")] for b in blocks] or [np.zeros(0)])
-    numbers = np.concatenate([b.columns["frame"].astype(np.int64) for b in blocks] or [np.zeros(0, dtype=np.int64)])
-    dropped = sum(b.dropped for b in blocks)
-    outside = sum(int(np.count_nonzero(b.columns["dropped"][b.columns["trial"] < 0])) for b in blocks)
-    intervals = np.diff(stamps) if stamps.size > 1 else np.zeros(0)
-    intervals = intervals[intervals < 10 * period]  # gaps from pauses and resumes are not frame intervals
-    # Bins a ninth of a period wide, centred on multiples of it: one bin holds the period itself (16.665 and
-    # 16.670 ms alike at 60 Hz) and an edge falls exactly on the dropped-frame limit of 1.5 periods.
-    width = period / 9
-    edges = np.r_[0.0, (np.arange(28) + 0.5) * width]
-    counts, _ = np.histogram(np.clip(intervals, 0, edges[-1] - 1e-9), bins=edges)
-    onsets = [e for e in _events(db, session["id"]) if e["kind"] == "phase_onset"]
-    errors: dict[str, list] = {}
-    for a, b in zip(onsets, onsets[1:]):
-        if a["trial"] != b["trial"]:
-            continue
-        phases = data["schedules"]["first"] + data["schedules"]["repeat"]
-        planned = next((p.get("frames") for p in phases if p["phase"] == a["phase"]), None)
-        if planned:
-            errors.setdefault(b["phase"], []).append((b["t"] - a["t"]) - planned * period)
-    gaps = np.flatnonzero(np.diff(numbers) != 1) if numbers.size > 1 else []
-    return {"frames": int(numbers.size), "dropped_frames": int(dropped), "dropped_outside_trials": outside,
-            "median_interval_ms": float(np.median(intervals)) if intervals.size else None,
-            "histogram": {"edges_ms": edges.tolist(), "counts": counts.tolist()},
-            "onset_error_ms": {k: {"mean": float(np.mean(v)), "max_abs": float(np.max(np.abs(v))), "n": len(v)}
-                               for k, v in errors.items()},
-            "frame_numbers_continuous": len(gaps) == 0, "period_ms": period}
+def _columns(rows: list[dict]) -> list[str]:
+    columns: list[str] = []
+    for row in rows:
+        columns += [k for k in row if k not in columns]
+    return columns
 
 
 def session_json(db, session: dict, profile: dict) -> dict:
@@ -147,83 +73,124 @@ def session_json(db, session: dict, profile: dict) -> dict:
             "session": {k: session[k] for k in ("id", "participant", "status", "started_at", "ended_at",
                                                 "protocol_file", "protocol_sha256", "software_version")}
             | {"end_reason": session.get("end_reason"), "dry_run": session.get("dry_run")},
+            "provenance": provenance(db, session),
             "acknowledgement": session["acknowledgement"], "checks": session["checks"],
             "observer": session["compiled"]["observer"], "display_profile": profile,
             "display_sha256": profile["sha256"], "compiled": session["compiled"],
-            "events": _events(db, session["id"]),
+            "events": session_events(db, session["id"]),
             "frames": {"columns": ["frame", "t_raf", "t_callback", "trial", "phase", "dropped", "drawn"],
                        "rows": frames},
             "trials": trial_rows(db, session), "timing": timing(db, session)}
 
 
-BIDS_SIDECAR = {
-    "onset": {"Description": "Time of the phase's first frame (requestAnimationFrame timestamp) from the first "
-                             "frame of the session", "Units": "s"},
-    "duration": {"Description": "Time from this phase's first frame to the next phase's first frame", "Units": "s"},
-    "trial_type": {"Description": "Phase of the trial", "Levels": {"adapt": "full adaptation", "top_up":
-                   "top-up adaptation", "gap": "background only", "test": "test stimulus", "respond":
-                   "waiting for the response"}},
-    "trial": {"Description": "Trial index in the compiled protocol (0-based)"},
-    "condition": {"Description": "Condition label: the condition variables and their levels"},
-    "frame": {"Description": "Session frame number of the onset"},
-    "practice": {"Description": "Whether the trial is a practice trial (not for analysis)",
-                 "Levels": {"True": "practice trial", "False": "experimental trial"}},
-    "response_time": {"Description": "Key press time after the onset of the respond phase (event.timeStamp "
-                                     "minus the onset frame's timestamp)", "Units": "ms"},
-    "response": {"Description": "Adjustment position, key or choice recorded at the end of the trial"},
-}
-
-
-def bids_events(db, session: dict) -> list[dict]:
-    """BIDS-style events, one per phase onset: onset, duration, trial_type and our columns."""
-    data = session["compiled"]
-    events = _events(db, session["id"])
-    first = next((float(b.columns["t_raf"][0]) for b in frame_blocks(db, session["id"])), 0.0)
-    onsets = [e for e in events if e["kind"] == "phase_onset"]
-    ends = {e["trial"]: e for e in events if e["kind"] == "trial_end"}
-    rows = []
-    for i, onset in enumerate(onsets):
-        later = onsets[i + 1]["t"] if i + 1 < len(onsets) else ends.get(onset["trial"], {}).get("t", onset["t"])
-        result = (ends.get(onset["trial"]) or {}).get("response") or {}
-        respond = onset["phase"] == "respond"
-        rows.append({"onset": round((onset["t"] - first) / 1000, 6), "duration": round(max(later - onset["t"], 0) / 1000, 6),
-                     "trial_type": onset["phase"], "trial": onset["trial"],
-                     "condition": data["conditions"][onset["condition"]]["label"], "frame": onset["frame"],
-                     "practice": bool(data["trials"][onset["trial"]].get("practice")),
-                     "response_time": result.get("rt_ms") if respond else "n/a",
-                     "response": json.dumps([round(p, 9) for p in result["position"]] if "position" in result
-                                            else result.get("key")) if respond and result else "n/a"})
-    return rows
-
-
 def events_tsv(rows: list[dict]) -> str:
-    columns = list(BIDS_SIDECAR)
-    lines = ["\t".join(columns)]
-    for row in rows:
-        lines.append("\t".join("n/a" if row.get(c) in (None, "") else str(row[c]) for c in columns))
-    return "\n".join(lines) + "\n"
+    """BIDS events as TSV text (see :func:`stimlab.sessions.bids.bids_events`)."""
+    return tsv(rows, _columns([{"onset": None, "duration": None, "trial_type": None}] + rows))
 
 
-def frames_csv_chunks(db, session_id: int):
-    """The frame log as CSV text in chunks (the header, then about a minute of frames each): memory stays flat."""
-    yield ",".join(FRAME_COLUMNS) + "\n"
-    chunk: list = []
-    for block in frame_blocks(db, session_id):
-        chunk.append(block)
-        if len(chunk) == CSV_CHUNK_BLOCKS:
-            yield FrameBlock.concatenate(chunk).csv()
-            chunk = []
-    if chunk:
-        yield FrameBlock.concatenate(chunk).csv()
+def frames_csv(db, session, out) -> int:
+    """Write the frame table of ``session`` (a session, or its number) as CSV to a text stream; return the frame
+    count."""
+    if isinstance(session, int):
+        from .ingest import get_session
 
-
-def frames_csv(db, session_id: int, out) -> int:
-    """Write the frame log as CSV to a text stream (see :func:`frames_csv_chunks`); return the frame count.
-
-    Only ``drawn`` can hold commas and it is quoted; it never holds quotes (digits, ',', ';' and names).
-    """
+        session = get_session(db, session)
     lines = 0
-    for text in frames_csv_chunks(db, session_id):
+    for text in frames_csv_chunks(db, session):
         out.write(text)
         lines += text.count("\n")
     return lines - 1
+
+
+def _zip(files: dict[str, bytes], folder: str) -> bytes:
+    out = io.BytesIO()
+    with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as archive:
+        for path, content in sorted(files.items()):
+            archive.writestr(f"{folder}/{path}", content)
+    return out.getvalue()
+
+
+def _json(value) -> str:
+    return json.dumps(value, indent=1, ensure_ascii=False, default=str)
+
+
+def session_stem(session: dict) -> str:
+    """The start of every export file name of a session; a dry run says so in it."""
+    return f"session-{session['id']}_{session['participant']}" + ("_dry-run" if session.get("dry_run") else "")
+
+
+def session_export(db, store, session: dict, fmt: str) -> ExportFile:
+    """One export of one session in format ``fmt`` (a key of :data:`SESSION_FORMATS`)."""
+    from .summary import session_summary
+
+    stem = session_stem(session)
+    if fmt == "csv":
+        return ExportFile(f"{stem}_trials.csv", "text/csv", rows_to_csv(trial_rows(db, session)))
+    if fmt == "dictionary":
+        return ExportFile(f"{stem}_trials.json", "application/json",
+                          _json(dictionary(_columns(trial_rows(db, session)))))
+    if fmt == "frames":  # streamed: an hour's log is tens of MB
+        return ExportFile(f"{stem}_frames.csv", "text/csv", frames_csv_chunks(db, session))
+    if fmt == "frames-dictionary":
+        return ExportFile(f"{stem}_frames.json", "application/json",
+                          _json(dictionary(frame_columns(session["compiled"]))))
+    if fmt == "provenance":
+        return ExportFile(f"{stem}_provenance.json", "application/json", _json(provenance(db, session)))
+    if fmt == "summary":
+        summary = session_summary(db, session)
+        summary.pop("rows")
+        return ExportFile(f"{stem}_summary.json", "application/json", _json(summary))
+    if fmt == "json":
+        profile = store.display(db, session["display_id"])["profile"]
+        return ExportFile(f"{stem}.json", "application/json", _json(session_json(db, session, profile)))
+    if fmt == "bids":
+        name = f"{session['compiled']['protocol']['title']}: session {session['id']}"
+        return ExportFile(f"{stem}_bids.zip", "application/zip",
+                          _zip(bids_files(db, [session], name=name), f"{stem}_bids"))
+    raise InputError(f"unknown export format {fmt!r}; choose one of: {', '.join(SESSION_FORMATS)}", field="format")
+
+
+def study_sessions(db, protocol_file: str, *, include_dry_runs: bool = False) -> list[dict]:
+    """Every session of one protocol file, in start order (dry runs left out unless asked for)."""
+    from .ingest import get_session
+
+    ids = [r[0] for r in db.execute("SELECT id FROM sessions WHERE protocol_file = ? ORDER BY started_at, id",
+                                    (protocol_file,))]
+    sessions = [get_session(db, i) for i in ids]
+    if not include_dry_runs:
+        sessions = [s for s in sessions if not (s.get("dry_run") or s["compiled"].get("dry_run"))]
+    return sessions
+
+
+def study_export(db, store, protocol_file: str, fmt: str) -> ExportFile:
+    """One export of a whole study (every session of ``protocol_file``) in ``fmt`` (a key of STUDY_FORMATS)."""
+    from .study import study_summary
+
+    sessions = study_sessions(db, protocol_file)
+    if not sessions:
+        raise InputError(f"there are no sessions of {protocol_file!r} yet", field="protocol")
+    stem = f"study_{protocol_file.removesuffix('.json')}"
+    if fmt in ("csv", "dictionary"):
+        rows = [row for s in sessions for row in trial_rows(db, s)]
+        if fmt == "csv":
+            return ExportFile(f"{stem}_trials.csv", "text/csv", rows_to_csv(rows))
+        return ExportFile(f"{stem}_trials.json", "application/json", _json(dictionary(_columns(rows))))
+    if fmt == "summary":
+        summary = study_summary(db, protocol_file, sessions)
+        return ExportFile(f"{stem}_summary.json", "application/json", _json(summary))
+    if fmt == "bids":
+        name = sessions[0]["compiled"]["protocol"]["title"]
+        return ExportFile(f"{stem}_bids.zip", "application/zip", _zip(bids_files(db, sessions, name=name),
+                                                                      f"{stem}_bids"))
+    if fmt == "parquet":
+        import tempfile
+        from pathlib import Path
+
+        from .parquet import write_study_parquet
+
+        with tempfile.TemporaryDirectory() as folder:
+            write_study_parquet(db, store, sessions, Path(folder))
+            files = {str(p.relative_to(folder)): p.read_bytes() for p in sorted(Path(folder).rglob("*")) if p.is_file()}
+        return ExportFile(f"{stem}_parquet.zip", "application/zip", _zip(files, f"{stem}_parquet"))
+    raise InputError(f"unknown study export format {fmt!r}; choose one of: {', '.join(STUDY_FORMATS)}",
+                     field="format")

@@ -1,33 +1,24 @@
-"""Sessions: the list (filterable by protocol, participant code and status), a page per session with its timing
-quality and responses, and its exports."""
+"""Sessions: the list (filterable by protocol, participant code and status), a page per session, a page per study
+(every session of one protocol), and their exports. Every number comes from stimlab.sessions (summary, study,
+export); this layer only places them."""
 
 from __future__ import annotations
 
-import json
-
-import numpy as np
 from flask import Blueprint, Response, g, render_template, request, stream_with_context
 
-from ..colorimetry.spaces import LMS_to_DKL
-from ..sessions.export import (
-    BIDS_SIDECAR,
-    bids_events,
-    events_tsv,
-    frames_csv_chunks,
-    rows_to_csv,
-    session_json,
-    timing,
-    trial_rows,
-)
-from ..sessions.ingest import get_session, progress
+from ..errors import InputError
+from ..sessions.export import SESSION_FORMATS, STUDY_FORMATS, session_export, study_export, study_sessions
+from ..sessions.figures import FORMATS as FIGURE_FORMATS
+from ..sessions.figures import render, session_specs, study_specs
+from ..sessions.ingest import STATUSES, get_session, progress
+from ..sessions.store import safe_protocol_name
+from ..sessions.study import study_summary
+from ..sessions.summary import session_summary
 from . import current_store
 from .errors import NotFound, WebError
-from .plots import _Axes
 
 blueprint = Blueprint("sessions", __name__)
 
-STATUSES = ("running", "interrupted", "complete", "ended_early")
-FORMATS = ("csv", "json", "bids", "sidecar", "frames")
 
 
 def _filters() -> dict:
@@ -56,89 +47,6 @@ def api_index():
     return {"sessions": current_store().sessions(g.db, **_filters())}
 
 
-def for_analysis(session: dict, rows: list[dict]) -> list[dict]:
-    """The rows analysis uses: none from a dry run, no practice trials."""
-    return [] if session.get("dry_run") else [r for r in rows if not r.get("practice")]
-
-
-def by_condition(session: dict, rows: list[dict]) -> list[dict]:
-    """Responses per condition, and for nulling or matching designs the null/match against the adapting vector."""
-    data = session["compiled"]
-    model = data.get("adaptation_model") or {}
-    LMS_0 = np.array(data["background"]["lms"])
-    obs = data["observer"]
-    summary = []
-    for condition in data["conditions"]:
-        done = [r for r in rows if r["condition"] == condition["label"] and r["completed"]]
-        entry = {"label": condition["label"], "n": len(done),
-                 "rt_ms": float(np.mean([r["response_rt_ms"] for r in done if r["response_rt_ms"] is not None]))
-                 if any(r["response_rt_ms"] is not None for r in done) else None}
-        correct = [r["response_correct"] for r in done if r["response_correct"] is not None]
-        if correct:
-            entry["proportion_correct"] = float(np.mean(correct))
-        nulls = [[r["response_dkl_lm"], r["response_dkl_s"]] for r in done if "response_dkl_lm" in r]
-        if nulls:
-            entry["response_dkl_mean"] = np.mean(nulls, axis=0).tolist()
-            entry["response_dkl_sd"] = np.std(nulls, axis=0, ddof=1).tolist() if len(nulls) > 1 else [0.0, 0.0]
-            source = None
-            if model.get("kind") == "after_image":
-                source = condition["stimuli"][model["adapter"]]["colour"]
-            elif model.get("kind") == "induction":
-                inducer = condition["stimuli"][model["inducer"]]
-                source = inducer.get("second_colour", inducer["colour"])
-            if source:
-                adapt = LMS_to_DKL(np.array(source["lms"]), LMS_0, obs["w_L"], obs["w_M"])[1:]
-                entry["adapt_dkl"] = adapt.tolist()
-                norm = float(np.linalg.norm(adapt))
-                entry["strength"] = float(np.linalg.norm(entry["response_dkl_mean"]) / norm) if norm else None
-        summary.append(entry)
-    return summary
-
-
-def vectors_plot(summary: list[dict]) -> dict | None:
-    """Adapting (or surround) vectors and the mean null (or match) vectors in the DKL isoluminant plane."""
-    pairs = [s for s in summary if "adapt_dkl" in s]
-    if not pairs:
-        return None
-    span = 1.15 * max(max(abs(v) for s in pairs for v in s["adapt_dkl"] + s["response_dkl_mean"]), 1e-6)
-    axes = _Axes((-span, span), (-span, span), width=300, height=300)
-    ticks = [round(t, 4) for t in np.linspace(-span, span, 5)]
-    return {"frame": axes.frame(ticks, ticks, "L−M (DKL)", "S (DKL)"), "ox": axes.x(0), "oy": axes.y(0),
-            "vectors": [{"label": s["label"], "ax": axes.x(s["adapt_dkl"][0]), "ay": axes.y(s["adapt_dkl"][1]),
-                         "nx": axes.x(s["response_dkl_mean"][0]), "ny": axes.y(s["response_dkl_mean"][1]),
-                         "strength": s["strength"]} for s in pairs]}
-
-
-def histogram_plot(quality: dict) -> dict:
-    edges, counts = quality["histogram"]["edges_ms"], quality["histogram"]["counts"]
-    top = max(counts + [1])
-    axes = _Axes((edges[0], edges[-1]), (0, top), height=180)
-    bars = [{"x": axes.x(a), "width": max(axes.x(b) - axes.x(a) - 1, 1), "y": axes.y(c), "h": axes.y(0) - axes.y(c),
-             "label": f"{a:.1f}–{b:.1f} ms: {c}"} for a, b, c in zip(edges, edges[1:], counts)]
-    period = quality["period_ms"]
-    return {"frame": axes.frame([0, period, 1.5 * period, 2 * period, 3 * period], [0, top], "frame interval (ms)",
-                                "frames"), "bars": bars, "drop_x": axes.x(1.5 * period)}
-
-
-def photometry_summary(session: dict, rows: list[dict]) -> dict | None:
-    """For a flicker-photometry session: the settings and the L/M weighting they imply."""
-    from ..colorimetry.observers import observer
-    from ..colorimetry.photometry import summarise_settings
-
-    data = session["compiled"]
-    task = data.get("photometry")
-    if not task:
-        return None
-    LMS_0 = np.array(data["background"]["lms"])
-    obs = observer(data["observer"]["key"])
-    stimulus = data["conditions"][0]["stimuli"][task["stimulus"]]
-    amplitude = float(LMS_to_DKL(np.array(stimulus["colour"]["lms"]), LMS_0, obs.w_L, obs.w_M)[1])
-    settings = [float(r["response_position"]) for r in rows if r.get("response_position") not in (None, "")]
-    if len(settings) < 2:
-        return {"settings": settings, "error": "at least two settings are needed"}
-    return summarise_settings(amplitude, settings, LMS_0, obs) | {"standard_observer": obs.key}
-
-
 @blueprint.post("/sessions/<int:session_id>/observer-adjustment")
 def save_adjustment(session_id: int):
     from flask import redirect, url_for
@@ -158,7 +66,7 @@ def _store_adjustment(session_id: int):
     if session.get("dry_run"):
         raise WebError("this session is a dry run: it is left out of analysis and cannot set an observer adjustment",
                        field="session")
-    summary = photometry_summary(session, for_analysis(session, trial_rows(g.db, session)))
+    summary = session_summary(g.db, session)["photometry"]
     if summary is None:
         raise WebError("this session is not a flicker photometry task", field="session")
     if "error" in summary:
@@ -179,39 +87,82 @@ def api_observer(participant: str):
 @blueprint.get("/sessions/<int:session_id>")
 def show(session_id: int):
     session = session_or_404(session_id)
-    rows = trial_rows(g.db, session)
-    quality = timing(g.db, session)
-    analysed = for_analysis(session, rows)
-    summary = by_condition(session, analysed)
+    summary = session_summary(g.db, session)
     display = current_store().display(g.db, session["display_id"])
-    photometry = photometry_summary(session, analysed)
-    saved = current_store().latest_adjustment(g.db, session["participant"]) if photometry else None
-    return render_template("session.html", session=session, rows=rows, quality=quality, summary=summary,
-                           photometry=photometry, saved_adjustment=saved,
-                           vectors=vectors_plot(summary), histogram=histogram_plot(quality), display=display,
-                           progress=progress(g.db, session_id), formats=FORMATS)
+    saved = current_store().latest_adjustment(g.db, session["participant"]) if summary["photometry"] else None
+    return render_template("session.html", session=session, rows=summary["rows"], quality=summary["timing"],
+                           summary=summary["conditions"], model=summary["model"], photometry=summary["photometry"],
+                           saved_adjustment=saved, display=display,
+                           progress=progress(g.db, session_id), formats=SESSION_FORMATS,
+                           figures=list(session_specs(summary)))
+
+
+@blueprint.get("/sessions/<int:session_id>/figures/<figure>.<fmt>")
+def session_figure(session_id: int, figure: str, fmt: str):
+    specs = session_specs(session_summary(g.db, session_or_404(session_id)))
+    return _figure(specs, figure, fmt, f"session-{session_id}_{figure}")
 
 
 @blueprint.get("/sessions/<int:session_id>/export.<fmt>")
 def export(session_id: int, fmt: str):
     session = session_or_404(session_id)
-    dry = bool(session.get("dry_run"))  # a dry run says so in every file name (BIDS: the acq entity)
-    stem = f"session-{session_id}_{session['participant']}" + ("_dry-run" if dry else "")
-    bids = f"sub-{session['participant']}_task-stimlab_" + ("acq-dryrun_" if dry else "") + f"run-{session_id}"
-    if fmt == "csv":
-        return _download(rows_to_csv(trial_rows(g.db, session)), f"{stem}_trials.csv", "text/csv")
-    if fmt == "json":
-        profile = current_store().display(g.db, session["display_id"])["profile"]
-        return _download(json.dumps(session_json(g.db, session, profile), indent=1), f"{stem}.json",
-                         "application/json")
-    if fmt == "bids":
-        return _download(events_tsv(bids_events(g.db, session)), f"{bids}_events.tsv", "text/tab-separated-values")
-    if fmt == "sidecar":
-        return _download(json.dumps(BIDS_SIDECAR, indent=2), f"{bids}_events.json", "application/json")
-    if fmt == "frames":  # streamed: an hour's log is tens of MB
-        return _download(stream_with_context(frames_csv_chunks(g.db, session_id)), f"{stem}_frames.csv", "text/csv")
-    raise NotFound(f"unknown export format {fmt!r}; choose one of: {', '.join(FORMATS)}")
+    if fmt not in SESSION_FORMATS:
+        raise NotFound(f"unknown export format {fmt!r}; choose one of: {', '.join(SESSION_FORMATS)}")
+    return _download(session_export(g.db, current_store(), session, fmt))
 
 
-def _download(text, filename: str, mimetype: str) -> Response:
-    return Response(text, mimetype=mimetype, headers={"Content-Disposition": f'attachment; filename="{filename}"'})
+def _protocol_or_404(name: str) -> str:
+    try:
+        name = safe_protocol_name(name)
+    except InputError as error:
+        raise NotFound(error.message) from None
+    if not study_sessions(g.db, name):
+        raise NotFound(f"there are no sessions of {name!r} yet; run the protocol first")
+    return name
+
+
+@blueprint.get("/studies/<name>")
+def study(name: str):
+    name = _protocol_or_404(name)
+    summary = study_summary(g.db, name, study_sessions(g.db, name))
+    return render_template("study.html", study=summary, formats=STUDY_FORMATS, figures=list(study_specs(summary)))
+
+
+@blueprint.get("/studies/<name>/figures/<figure>.<fmt>")
+def study_figure(name: str, figure: str, fmt: str):
+    name = _protocol_or_404(name)
+    specs = study_specs(study_summary(g.db, name, study_sessions(g.db, name)))
+    return _figure(specs, figure, fmt, f"study_{name.removesuffix('.json')}_{figure}")
+
+
+def _figure(specs: dict, figure: str, fmt: str, stem: str) -> Response:
+    if figure not in specs:
+        raise NotFound(f"there is no figure {figure!r} here; these are: {', '.join(specs) or 'none'}")
+    if fmt not in FIGURE_FORMATS:
+        raise NotFound(f"figures download as {' or '.join(FIGURE_FORMATS)}, not {fmt!r}")
+    data = render(specs[figure], fmt, current_store().root / "figures")
+    disposition = "attachment" if request.args.get("download") else "inline"
+    return Response(data, mimetype=FIGURE_FORMATS[fmt], headers={
+        "Content-Disposition": f'{disposition}; filename="{stem}.{fmt}"', "Cache-Control": "private, max-age=60"})
+
+
+@blueprint.get("/api/studies/<name>")
+def api_study(name: str):
+    name = _protocol_or_404(name)
+    return study_summary(g.db, name, study_sessions(g.db, name))
+
+
+@blueprint.get("/studies/<name>/export.<fmt>")
+def study_download(name: str, fmt: str):
+    name = _protocol_or_404(name)
+    if fmt not in STUDY_FORMATS:
+        raise NotFound(f"unknown export format {fmt!r}; choose one of: {', '.join(STUDY_FORMATS)}")
+    return _download(study_export(g.db, current_store(), name, fmt))
+
+
+def _download(exported) -> Response:
+    content = exported.content
+    if not isinstance(content, (str, bytes)):  # a generator of chunks: streamed
+        content = stream_with_context(content)
+    return Response(content, mimetype=exported.mimetype,
+                    headers={"Content-Disposition": f'attachment; filename="{exported.name}"'})

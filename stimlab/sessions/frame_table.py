@@ -1,0 +1,106 @@
+"""The frame log as a typed table: one column per stored number, and the drawn device levels split into one
+integer column per stimulus and channel (``drawn_<stimulus>_device_r`` …) instead of ``"632,794,770"`` text.
+
+The runner logs, per frame, the levels of each item it drew, in the order of the phase's stimuli (``settle`` frames
+draw the background alone); a patterned item (grating, Gaussian) is logged as ``patch`` and has no single level.
+Times stay the browser's exact doubles (written as the shortest decimal that reads back as the same double).
+Columns are read from :data:`~stimlab.sessions.frame_log.FRAME_COLUMNS`, so a column added there flows through.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .frame_log import FRAME_COLUMNS, FrameBlock
+from .ingest import frame_blocks
+from .trials import CHANNELS
+
+__all__ = ["frame_columns", "frame_chunks", "frame_arrays", "frames_csv_chunks", "CHUNK_BLOCKS", "TEXT_COLUMNS"]
+
+CHUNK_BLOCKS = 64  # stored blocks handled together: about a minute of frames, a few MB at most
+TEXT_COLUMNS = ("phase", "drawn")
+NONE = -1
+
+
+def _drawn_names(data: dict) -> list[str]:
+    names = list(data["conditions"][0]["stimuli"]) if data["conditions"] else []
+    return names + ["background"]
+
+
+def frame_columns(data: dict) -> list[str]:
+    """The frame table's columns for a compiled protocol, in order."""
+    plain = [c for c in FRAME_COLUMNS if c != "drawn"]
+    return plain + [f"drawn_{n}_device_{c}" for n in _drawn_names(data) for c in CHANNELS]
+
+
+def _phase_stimuli(data: dict) -> dict[str, list[str]]:
+    table = {p["phase"]: list(p.get("stimuli") or []) for p in data["schedules"]["first"] + data["schedules"]["repeat"]}
+    return table | {"settle": ["background"]}
+
+
+def _levels(block: FrameBlock, data: dict) -> np.ndarray:
+    """(frames, 3 · stimuli) device levels, -1 where a stimulus is not drawn or is patterned."""
+    names = _drawn_names(data)
+    where = {n: i for i, n in enumerate(names)}
+    stimuli = _phase_stimuli(data)
+    n_labels = len(block.labels)
+    phase = np.minimum(block.columns["phase"].astype(np.int64), n_labels)
+    drawn = np.minimum(block.columns["drawn"].astype(np.int64), n_labels)
+    pairs, inverse = np.unique(phase * (n_labels + 1) + drawn, return_inverse=True)
+    labels = [*block.labels, None]
+    table = np.full((pairs.size, 3 * len(names)), NONE, dtype=np.int32)
+    for row, pair in enumerate(pairs.tolist()):
+        phase_label, drawn_label = labels[pair // (n_labels + 1)], labels[pair % (n_labels + 1)]
+        if not drawn_label:
+            continue
+        for name, item in zip(stimuli.get(phase_label, []), drawn_label.split(";")):
+            if name in where and item != "patch":
+                values = [int(v) for v in item.split(",")]
+                table[row, 3 * where[name]: 3 * where[name] + 3] = values
+    return table[inverse.ravel()]
+
+
+def frame_chunks(db, session: dict):
+    """The frame table in chunks of about a minute, as ``(block, levels)``: the stored columns of the frames
+    (:class:`~stimlab.sessions.frame_log.FrameBlock`, text columns as codes into ``block.labels``) and their drawn
+    device levels, a (frames, 3 · stimuli) integer array with -1 where a stimulus is not drawn (columns in the
+    order of :func:`frame_columns`)."""
+    data = session["compiled"]
+    chunk: list = []
+    for block in frame_blocks(db, session["id"]):
+        chunk.append(block)
+        if len(chunk) == CHUNK_BLOCKS:
+            merged = FrameBlock.concatenate(chunk)
+            yield merged, _levels(merged, data)
+            chunk = []
+    if chunk:
+        merged = FrameBlock.concatenate(chunk)
+        yield merged, _levels(merged, data)
+
+
+def frame_arrays(block: FrameBlock, levels: np.ndarray, columns: list[str]) -> dict:
+    """One chunk as ``{column: numpy array}``: text columns as object arrays (None for none)."""
+    out = {name: (np.array(block.text(name), dtype=object) if name in TEXT_COLUMNS else block.columns[name])
+           for name in FRAME_COLUMNS if name != "drawn"}
+    drawn = [c for c in columns if c.startswith("drawn_")]
+    return out | {name: levels[:, i] for i, name in enumerate(drawn)}
+
+
+def _text(values: np.ndarray, name: str) -> list[str]:
+    if values.dtype == object:
+        return ["" if v is None else str(v) for v in values.tolist()]
+    if values.dtype.kind == "f":
+        return list(map(repr, values.tolist()))
+    if name == "trial" or name.startswith("drawn_"):
+        return [str(v) if v >= 0 else "" for v in values.tolist()]
+    return list(map(str, values.tolist()))
+
+
+def frames_csv_chunks(db, session: dict):
+    """The frame table as CSV text in chunks (the header, then about a minute of frames each): memory stays flat.
+    Text cells never hold commas or quotes (phase names are checked on the way in)."""
+    columns = frame_columns(session["compiled"])
+    yield ",".join(columns) + "\n"
+    for block, levels in frame_chunks(db, session):
+        fields = [_text(values, name) for name, values in frame_arrays(block, levels, columns).items()]
+        yield "\n".join(map(",".join, zip(*fields))) + "\n"

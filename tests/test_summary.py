@@ -1,0 +1,81 @@
+"""The session summary: signed after-image/induction components with Student-t intervals; the page renders it."""
+
+import numpy as np
+import pytest
+import simulated_sessions as sim
+from scipy import stats
+
+from stimlab.sessions.ingest import get_session
+from stimlab.sessions.summary import mean_ci, session_summary, signed_components
+
+
+def test_a_mostly_plus_s_match_on_a_plus_l_minus_m_surround_is_mostly_orthogonal():
+    along, across = signed_components([[-0.01, 0.035]], [0.08, 0.0])
+    assert along[0] == pytest.approx(-0.01) and across[0] == pytest.approx(0.035)
+    along, across = signed_components([[0.0, -0.1]], [0.0, 0.3])  # opposed to a +S surround: contrast
+    assert along[0] == pytest.approx(-0.1) and across[0] == pytest.approx(0.0)
+
+
+def test_the_interval_is_students_t_over_trials():
+    # Student's t table: t(0.975, 4) = 2.776
+    values = [0.1, 0.2, 0.15, 0.05, 0.25]
+    ci = mean_ci(values)
+    half = 2.776 * np.std(values, ddof=1) / np.sqrt(5)
+    assert ci["ci95"] == pytest.approx([0.15 - half, 0.15 + half], abs=1e-3)
+    assert stats.t.ppf(0.975, 4) == pytest.approx(2.776, abs=1e-3)
+    assert mean_ci([0.3])["ci95"] is None and mean_ci([]) is None
+
+
+@pytest.fixture
+def matched(app, client):
+    seen = {}
+    spread = [[-0.01, 0.005], [0.0, -0.005], [0.01, 0.0], [-0.005, 0.01], [0.005, -0.01]]
+
+    def respond(trial, condition):
+        # contrast: about 30 % of the surround's DKL coordinates, opposed, spread over the repeats (0.005 ladder)
+        target = {"+L-M": [-0.025, 0.0], "-L-M": [0.025, 0.0], "+S": [0.0, -0.09], "-S": [0.0, 0.09]}
+        repeat = seen[condition["label"]] = seen.get(condition["label"], -1) + 1
+        return sim.adjustment(np.add(target[condition["labels"]["surround"]], spread[repeat]), condition["response"])
+
+    session_id = sim.run(app, client, "contrast_match.json", "P01", respond)
+    db = app.extensions["stimlab.store"].connect()
+    return db, get_session(db, session_id)
+
+
+def test_induction_is_signed_contrast_with_an_interval_per_condition(matched):
+    db, session = matched
+    summary = {c["label"]: c for c in session_summary(db, session)["conditions"]}
+    for label, size in (("surround=+L-M", 0.08), ("surround=+S", 0.3)):
+        entry = summary[label]
+        assert entry["n"] == 5
+        low, high = entry["along"]["ci95"]
+        assert entry["along"]["mean"] < 0 and low < entry["along"]["mean"] < high  # opposed: contrast
+        assert entry["along_relative"]["mean"] == pytest.approx(entry["along"]["mean"] / size)
+        assert abs(entry["orthogonal"]["mean"]) < abs(entry["along"]["mean"])
+
+
+def test_the_session_page_shows_signed_components_not_a_ratio_of_lengths(matched, client):
+    db, session = matched
+    page = client.get(f"/sessions/{session['id']}").text
+    assert "Along adapting direction" in page and "contrast" in page and "Strength = |null|" not in page
+    assert "95 % confidence interval" in page and "/figures/vectors.svg" in page
+
+
+
+def test_an_after_image_null_along_the_adapter_is_positive_for_either_polarity(app, client):
+    """afterimage_null.json: adapter = polarity × axis; a null at half the adapter's own contrast, position
+    0.5 × polarity (positions are in units of the axis), lies along the adapter: +0.5 of it."""
+    def respond(trial, condition):
+        polarity = {"plus": 1, "minus": -1}[condition["labels"]["polarity"]]
+        return sim.adjustment(0.5 * polarity, condition["response"])
+
+    session_id = sim.run(app, client, "afterimage_null.json", "P05", respond)
+    db = app.extensions["stimlab.store"].connect()
+    summary = session_summary(db, get_session(db, session_id))
+    assert len(summary["conditions"]) == 4
+    for entry in summary["conditions"]:
+        assert entry["along_relative"]["mean"] == pytest.approx(0.5, abs=0.01), entry["label"]
+        assert entry["orthogonal"]["mean"] == pytest.approx(0.0, abs=1e-6)
+    row = summary["rows"][0]
+    assert isinstance(row["test_disc_dkl_lm"], float) and isinstance(row["test_disc_device_r"], int)
+    assert isinstance(row["response_position"], float)  # one axis: one column
