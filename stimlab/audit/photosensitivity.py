@@ -81,12 +81,19 @@ def _fine_classes(sequence, data) -> set:
 
 
 def _largest_in_field(sequence, mask) -> float:
-    """Largest solid angle (sr) of flashing samples (``mask``) inside any 10° field centred on one of them."""
+    """Largest solid angle (sr) of flashing samples (``mask``) inside any 10° field.
+
+    Field centres tried: a grid over the flashing samples' extent (flashing or not, so that a ring's centre is
+    tried) and the flashing samples themselves, each thinned to at most :data:`MAX_FIELD_CENTRES`.
+    """
     weights = sequence.solid_angle[mask]
     if weights.sum() <= 0:
         return 0.0
     vectors = sequence.direction[mask]
-    centres = vectors[:: max(1, len(vectors) // MAX_FIELD_CENTRES)]
+    rows, columns = np.nonzero(mask)
+    box = sequence.direction[rows.min():rows.max() + 1, columns.min():columns.max() + 1].reshape(-1, 3)
+    centres = np.concatenate([box[:: max(1, len(box) // MAX_FIELD_CENTRES)],
+                              vectors[:: max(1, len(vectors) // MAX_FIELD_CENTRES)]])
     inside = centres @ vectors.T >= np.cos(FIELD_HALF_ANGLE)
     return float(min((inside @ weights).max(), TEN_DEGREE_FIELD_SR))
 

@@ -122,7 +122,11 @@ def _table_levels(data, item, region, steps: np.ndarray, value) -> np.ndarray:
     def pick(table, index):
         return np.array([t if t is not None else (-1, -1, -1) for t in table], dtype=np.int64)[index]
 
-    response = item.response
+    response = item.response if region == "colour" else None  # a ladder sets the first colour only
+    if item.response is not None and region == "second_colour":
+        device = item.stimulus["second_colour"]["device"]
+        return np.repeat(np.array(device if device is not None else (-1, -1, -1), dtype=np.int64)[None, :],
+                         steps.size, axis=0)
     if response is not None:
         if response["kind"] == "adjustment":
             normal = pick(response["device"], np.full(steps.size, item.ladder))
