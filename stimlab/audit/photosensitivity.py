@@ -30,7 +30,7 @@ from .flashes import (
     general_flash_transitions,
     red_flash_transitions,
 )
-from .sequence import RESPOND_FRAMES_S, build_sequence, region_signal
+from .sequence import RESPOND_FRAMES_S, build_sequence, region_signal, sampling, segments
 
 __all__ = ["analyse_sequence", "FINE_PATTERN_CYCLES_PER_DEG", "RESPOND_FRAMES_S", "MAX_FIELD_CENTRES"]
 
@@ -43,19 +43,18 @@ MAX_FIELD_CENTRES = 600
 FIELD_HALF_ANGLE = np.radians(5.0)
 
 
-def _class_runs(compiled, sequence):
+def _class_runs(compiled, sequence, phase_signals: dict):
     """Per class: (device levels per run (n, 3), first frame of each run in the sequence)."""
     data = compiled.data
-    phase_signals: dict = {}
     levels_by_class = [[] for _ in sequence.representative]
     starts_by_class = [[] for _ in sequence.representative]
     for occurrence in sequence.occurrences:
         regions = occurrence.regions
         key = (occurrence.condition, occurrence.phase_index, occurrence.frames, id(regions),
-               tuple(item.ladder for item in occurrence.items))
+               tuple(item.ladder for item in occurrence.items), id(sequence.representative))
         if key not in phase_signals:
             # Same condition, phase, length and regions: the same signals (trials repeat conditions).
-            labels = regions.labels.ravel()[sequence.representative]
+            labels = regions.labels.ravel()[sequence.representative]  # same classes for the same maps
             unique, inverse = np.unique(labels, return_inverse=True)
             signals = [region_signal(data, occurrence, regions.keys[label]) for label in unique.tolist()]
             phase_signals[key] = [signals[i] for i in inverse.ravel().tolist()]
@@ -101,6 +100,10 @@ def _largest_in_field(sequence, mask) -> float:
 def analyse_sequence(compiled, *, ladder=None, stride: int | None = None) -> dict:
     """General and red flash results for the whole frame sequence of a compiled protocol.
 
+    Every one-second window of the session is analysed once: each different stretch of consecutive trials (a trial
+    with the one before it and those covering the second after it; :func:`stimlab.audit.sequence.segments`) is
+    drawn and counted, for the windows starting in its own trial.
+
     Parameters
     ----------
     compiled
@@ -115,34 +118,52 @@ def analyse_sequence(compiled, *, ladder=None, stride: int | None = None) -> dic
     dict
         ``{"general", "red_wcag22", "red_harding"}``, each with ``max_flashes_per_second``, ``flashing_area_sr``
         (largest within a 10° field, sr), ``fails``, and where and when the most flashes are: ``stimulus``,
-        ``transition`` (the window spans a phase change), ``trial``, ``phase``, ``at_s`` (seconds into the phase),
-        ``sequence_s`` (seconds into the sequence); plus ``fails``, ``frames_analysed`` and ``samples``.
+        ``transition`` (the window spans a phase change), ``trial``, ``phase``, ``phases`` (those the window spans)
+        and ``at_s`` (seconds into the phase); plus ``fails``, ``frames_analysed`` and ``samples``.
     """
     data = compiled.data
+    grid = sampling(data, stride)
+    cache: dict = {}
+    signal_cache: dict = {}
+    phase_signals: dict = {}
+    definitions = {"general": None, **{f"red_{d}": d for d in RED_DEFINITIONS}}
+    result = {key: None for key in definitions}
+    frames_analysed = 0
+    for trials, own in segments(data):
+        sequence = build_sequence(compiled, trials, ladder=ladder, cache=cache, grid=grid)
+        frames_analysed += sequence.total_frames
+        own_frames = [o.start for o in sequence.occurrences if o.trial == own]
+        own_end = max(o.start + o.frames for o in sequence.occurrences if o.trial == own)
+        signals, owner = _signals(compiled, sequence, signal_cache, phase_signals)
+        for key, definition in definitions.items():
+            found = _summarise(sequence, data, signals, owner, definition, (min(own_frames), own_end))
+            best = result[key]
+            if best is None or (found["fails"], found["max_flashes_per_second"], found["flashing_area_sr"]) > \
+                    (best["fails"], best["max_flashes_per_second"], best["flashing_area_sr"]):
+                result[key] = found
+    result["fails"] = any(result[k]["fails"] for k in definitions)
+    result["frames_analysed"] = frames_analysed
+    result["samples"] = int(grid[0].size * grid[1].size)
+    return result
+
+
+def _signals(compiled, sequence, cache, phase_signals):
     model = compiled.model
-    sequence = build_sequence(compiled, ladder=ladder, stride=stride)
-    runs = _class_runs(compiled, sequence)
     luminance_per_RGB = model.observer.w_L * model.M_LMS[0] + model.observer.w_M * model.M_LMS[1]
-    white = float(luminance_per_RGB.sum())
-    background = np.asarray(data["background"]["device"])
+    weights = luminance_per_RGB / float(luminance_per_RGB.sum())
+    background = np.asarray(compiled.data["background"]["device"])
     unique: dict = {}
     signals, owner = [], []
-    for levels, starts in runs:
+    for levels, starts in _class_runs(compiled, sequence, phase_signals):
         key = (levels.tobytes(), starts.tobytes())
         if key not in unique:  # many classes show the same colours frame for frame (e.g. a blob's outskirts)
             unique[key] = len(signals)
-            levels = np.where((levels < 0).any(axis=1)[:, None], background[None, :], levels)
-            signals.append(_Signal(device_to_RGB_linear(levels, model.level_outputs), starts, model,
-                                   luminance_per_RGB / white))
+            if key not in cache:
+                levels = np.where((levels < 0).any(axis=1)[:, None], background[None, :], levels)
+                cache[key] = _Signal(device_to_RGB_linear(levels, model.level_outputs), starts, model, weights)
+            signals.append(cache[key])
         owner.append(unique[key])
-    result = {}
-    definitions = {"general": None, **{f"red_{d}": d for d in RED_DEFINITIONS}}
-    for key, definition in definitions.items():
-        result[key] = _summarise(sequence, data, signals, np.array(owner), definition)
-    result["fails"] = any(result[k]["fails"] for k in definitions)
-    result["frames_analysed"] = sequence.total_frames
-    result["samples"] = int(sequence.classes.size)
-    return result
+    return signals, np.array(owner)
 
 
 class _Signal:
@@ -163,7 +184,8 @@ class _Signal:
         return self.starts[red_flash_transitions(self.RGB, self._uv, definition)]
 
 
-def _summarise(sequence, data, signals, owner, definition) -> dict:
+def _summarise(sequence, data, signals, owner, definition, own) -> dict:
+    """Flash counts for windows starting within ``own`` (first, end frame): the segment's own trial."""
     total, refresh = sequence.total_frames, sequence.refresh_hz
     fine = _fine_classes(sequence, data) if definition is None else set()
     counts_by_signal: dict = {}
@@ -174,7 +196,11 @@ def _summarise(sequence, data, signals, owner, definition) -> dict:
             continue
         if s not in counts_by_signal:
             frames = signals[s].transition_frames(definition)
-            counts_by_signal[s] = flashes_per_window(frames, total, refresh) if frames.size > 1 else None
+            counts = flashes_per_window(frames, total, refresh) if frames.size > 1 else None
+            if counts is not None:
+                counts[:own[0]] = 0
+                counts[own[1]:] = 0
+            counts_by_signal[s] = counts
         counts = counts_by_signal[s]
         if counts is None:
             continue
@@ -219,4 +245,4 @@ def _where(sequence, worst) -> dict:
     phases = [o.phase for o in sequence.occurrences[first:last + 1]]
     return {"stimulus": " → ".join(shown) if shown else None, "transition": len(phases) > 1 and len(shown) > 1,
             "trial": occurrence.trial, "phase": occurrence.phase, "phases": phases,
-            "at_s": (frame - occurrence.start) / refresh, "sequence_s": frame / refresh}
+            "at_s": (frame - occurrence.start) / refresh}
