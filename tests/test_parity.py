@@ -15,7 +15,8 @@ from stimlab.experiment.timecourse import STEPS, course_plan, steps_for_phase
 REFRESH_RATES = (60, 100, 120, 144)  # common practice: refresh rates of laboratory displays
 
 # Flickering discs at several rates (each alone on the screen at its place), a counterphase grating overlapping a
-# square-flickering field with a steady spot on top, and an adjusted disc in the respond phase.
+# square-flickering field with a steady spot on top, and in the respond phase an adjusted centre-surround beside
+# an annulus and a bipartite field.
 RATES = [("square", 7), ("square", 12), ("square", 13), ("square", 30), ("sine", 5), ("sine", 7.5), ("sine", 11)]
 
 
@@ -36,11 +37,15 @@ def parity_protocol():
             {"name": "spot", "shape": "disc", "size_deg": 1, "colour": {"dkl": [-0.3, 0, 0.2]}},
             {"name": "match", "shape": "centre_surround", "size_deg": 1.5, "surround_size_deg": 3,
              "position_deg": [-6, -3], "colour": {"dkl": [0, 0.05, 0]}, "second_colour": {"dkl": [0.2, 0, 0]}},
+            {"name": "ring", "shape": "annulus", "size_deg": 3, "inner_size_deg": 1.5, "position_deg": [6, -6],
+             "colour": {"dkl": [0, 0, 0.4]}},
+            {"name": "halves", "shape": "bipartite", "size_deg": 3, "position_deg": [0, -6],
+             "colour": {"dkl": [0.1, 0.05, 0]}, "second_colour": {"dkl": [-0.1, -0.05, 0]}},
             *discs,
         ],
         "trial": [
             {"phase": "test", "stimuli": ["field", "grating", "spot", *(d["name"] for d in discs)], "duration_s": 1},
-            {"phase": "respond", "stimuli": ["field", "match"], "timeout_s": 5,
+            {"phase": "respond", "stimuli": ["field", "match", "ring", "halves"], "timeout_s": 5,
              "response": {"method": "adjustment", "target": "match", "space": "dkl", "axis": [0, 1, 0],
                           "start": 0, "step_fine": 0.01, "limits": [-0.1, 0.1], "keys": ["ArrowUp", "ArrowDown"]}},
         ],

@@ -244,5 +244,5 @@ def _where(sequence, worst) -> dict:
                 shown.append(name)
     phases = [o.phase for o in sequence.occurrences[first:last + 1]]
     return {"stimulus": " → ".join(shown) if shown else None, "transition": len(phases) > 1 and len(shown) > 1,
-            "trial": occurrence.trial, "phase": occurrence.phase, "phases": phases,
+            "trial": occurrence.trial, "condition": occurrence.condition, "phase": occurrence.phase, "phases": phases,
             "at_s": (frame - occurrence.start) / refresh}

@@ -264,11 +264,11 @@ def _photosensitivity(findings, compiled, protocol) -> bool:
         cases.append((analyse_sequence(compiled, ladder=end), f" (adjusted to ladder entry {end})"))
     seen = set()
     for result, label in cases:
-        _flash_findings(findings, result, label, seen)
+        _flash_findings(findings, compiled, result, label, seen)
     return flicker
 
 
-def _flash_findings(findings, result, label, seen):
+def _flash_findings(findings, compiled, result, label, seen):
     for key, name in (("general", "general"), ("red_wcag22", "red (WCAG 2.2 / ISO 9241-391)"),
                       ("red_harding", "red (Harding & Binnie)")):
         r = result[key]
@@ -276,7 +276,7 @@ def _flash_findings(findings, result, label, seen):
             continue
         what = ("the change between phases " + " → ".join(r["phases"]) + f" ({r['stimulus']})") if r["transition"] \
             else r["stimulus"]
-        where = f"trial {r['trial'] + 1} / {r['phase']} / {what}{label}"
+        where = f"{compiled.data['conditions'][r['condition']]['label']} / {what}{label}"
         signature = (key, r["max_flashes_per_second"], round(r["flashing_area_sr"], 5), r["stimulus"], r["fails"])
         if signature in seen:
             continue

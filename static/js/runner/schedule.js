@@ -102,10 +102,10 @@ export class Schedule {
   }
 
   // The colour of a stimulus this frame, as device levels (or a per-pixel patch description).
-  item(name) {
+  item(name, position) {
     const c = this.trial.condition.stimuli[name];
     const phase = this.phase;
-    const course = this.data.plan.courses[phase.courses[phase.stimuli.indexOf(name)]];
+    const course = this.data.plan.courses[phase.courses[position]];
     const step = stepAt(course, this.inPhase, phase.frames);
     const g = { ...c.geometry };
     const response = this.trial.condition.response;
@@ -156,7 +156,7 @@ export class Schedule {
       this.responder.begin(this.trial, 0);
       if (ladder !== null && this.responder.position) this.responder.position = [ladder];
     }
-    const items = phase.stimuli.map((name) => this.item(name));
+    const items = phase.stimuli.map((name, i) => this.item(name, i));
     this.painter.draw({ background: this.data.background.device, items,
       fixation: phase.fixation !== false && this.data.fixation ? this.data.fixation : null });
     return this.painter.read(columns, rows);
@@ -195,7 +195,7 @@ export class Schedule {
         condition: this.trial.condition.index });
       if (phase.phase === "respond") this.responder?.begin(this.trial, stamp);
     }
-    const items = phase.stimuli.map((name) => this.item(name));
+    const items = phase.stimuli.map((name, i) => this.item(name, i));
     const showFixation = phase.fixation !== false && this.data.fixation;
     this.painter.draw({ background: this.data.background.device, items,
       fixation: showFixation ? this.data.fixation : null });
