@@ -172,8 +172,14 @@ class _Signal:
     def __init__(self, RGB, starts, model, luminance_weights):
         self.RGB, self.starts, self.model, self.weights = RGB, starts, model, luminance_weights
         self._uv = None
+        self._frames: dict = {}
 
     def transition_frames(self, definition) -> np.ndarray:
+        if definition not in self._frames:
+            self._frames[definition] = self._transition_frames(definition)
+        return self._frames[definition]
+
+    def _transition_frames(self, definition) -> np.ndarray:
         if self.RGB.shape[0] < 2 * MAX_FLASHES_PER_SECOND + 2:
             return np.array([], dtype=int)  # too few changes in the whole sequence for more than three flashes
         if definition is None:
@@ -234,15 +240,23 @@ def _where(sequence, worst) -> dict:
     first = int(np.searchsorted(starts, frame, side="right") - 1)
     last = int(np.searchsorted(starts, frame + round(refresh), side="left") - 1)
     occurrence = sequence.occurrences[first]
-    shown = []
+    shown, modulated = [], []
     if worst["class"] is not None:
         sample = sequence.representative[worst["class"]]
         for o in sequence.occurrences[first:last + 1]:
             k = o.regions.keys[o.regions.labels.ravel()[sample]]
             name = k[0] if isinstance(k[0], str) else o.items[k[0]].name + ("" if k[1] == "colour" else " (surround)")
+            if not isinstance(k[0], str):
+                course = o.items[k[0]].course
+                if (len(course["cycle"]) > 1 or course["head"] or course["tail"]) and name not in modulated:
+                    modulated.append(name)
             if not shown or shown[-1] != name:
                 shown.append(name)
     phases = [o.phase for o in sequence.occurrences[first:last + 1]]
-    return {"stimulus": " → ".join(shown) if shown else None, "transition": len(phases) > 1 and len(shown) > 1,
+    # A stimulus that flickers or ramps in the window is named as the cause; otherwise the phase changes are.
+    transition = len(phases) > 1 and len(shown) > 1 and not modulated
+    if modulated:
+        shown = modulated
+    return {"stimulus": " → ".join(shown) if shown else None, "transition": transition,
             "trial": occurrence.trial, "condition": occurrence.condition, "phase": occurrence.phase, "phases": phases,
             "at_s": (frame - occurrence.start) / refresh}

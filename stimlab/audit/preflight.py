@@ -254,14 +254,15 @@ def _photosensitivity(findings, compiled, protocol) -> bool:
     if flicker:
         findings.add("photosensitivity", "warn", "protocol", "this protocol flickers. " + CAUTION)
     cases = [(analyse_sequence(compiled), "")]
-    ends = set()
+    ends = {}
     for condition in compiled.conditions:
         response = condition.response
         if response is not None and response.kind == "adjustment" and \
                 condition.stimuli[response.target].time_course["kind"] != "steady":
-            ends.update({0, len(response.RGB) - 1})  # a flickering adjusted target: the reach of the adjustment too
-    for end in sorted(ends):
-        cases.append((analyse_sequence(compiled, ladder=end), f" (adjusted to ladder entry {end})"))
+            for end in (0, len(response.RGB) - 1):  # a flickering adjusted target: the reach of the adjustment too
+                ends.setdefault(end, ", ".join(f"{p:+g}" for p in response.grid[end]))
+    for end, position in sorted(ends.items()):
+        cases.append((analyse_sequence(compiled, ladder=end), f" (adjusted to position {position})"))
     seen = set()
     for result, label in cases:
         _flash_findings(findings, compiled, result, label, seen)
