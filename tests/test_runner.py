@@ -129,6 +129,9 @@ def test_a_session_end_to_end(server, page):
     adapt = onsets[0][2]
     gap = onsets[1][2]
     assert gap["frame"] - adapt["frame"] == data["schedules"]["first"][0]["frames"] == 30
+    # Each trial frame carries its index within the phase: with the trial, the phase and the plan, what was shown.
+    in_adapt = [f[7] for f in iter_frames(db, session_id) if f[3] == 0 and f[4] == "adapt"]
+    assert in_adapt == list(range(30))
 
     import zipfile
 

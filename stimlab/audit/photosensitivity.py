@@ -30,7 +30,7 @@ from .flashes import (
     general_flash_transitions,
     red_flash_transitions,
 )
-from .sequence import RESPOND_FRAMES_S, build_sequence, region_signal
+from .sequence import RESPOND_FRAMES_S, build_sequence, region_signal, sampling, segments
 
 __all__ = ["analyse_sequence", "FINE_PATTERN_CYCLES_PER_DEG", "RESPOND_FRAMES_S", "MAX_FIELD_CENTRES"]
 
@@ -43,19 +43,18 @@ MAX_FIELD_CENTRES = 600
 FIELD_HALF_ANGLE = np.radians(5.0)
 
 
-def _class_runs(compiled, sequence):
+def _class_runs(compiled, sequence, phase_signals: dict):
     """Per class: (device levels per run (n, 3), first frame of each run in the sequence)."""
     data = compiled.data
-    phase_signals: dict = {}
     levels_by_class = [[] for _ in sequence.representative]
     starts_by_class = [[] for _ in sequence.representative]
     for occurrence in sequence.occurrences:
         regions = occurrence.regions
         key = (occurrence.condition, occurrence.phase_index, occurrence.frames, id(regions),
-               tuple(item.ladder for item in occurrence.items))
+               tuple(item.ladder for item in occurrence.items), id(sequence.representative))
         if key not in phase_signals:
             # Same condition, phase, length and regions: the same signals (trials repeat conditions).
-            labels = regions.labels.ravel()[sequence.representative]
+            labels = regions.labels.ravel()[sequence.representative]  # same classes for the same maps
             unique, inverse = np.unique(labels, return_inverse=True)
             signals = [region_signal(data, occurrence, regions.keys[label]) for label in unique.tolist()]
             phase_signals[key] = [signals[i] for i in inverse.ravel().tolist()]
@@ -81,18 +80,29 @@ def _fine_classes(sequence, data) -> set:
 
 
 def _largest_in_field(sequence, mask) -> float:
-    """Largest solid angle (sr) of flashing samples (``mask``) inside any 10° field centred on one of them."""
+    """Largest solid angle (sr) of flashing samples (``mask``) inside any 10° field.
+
+    Field centres tried: a grid over the flashing samples' extent (flashing or not, so that a ring's centre is
+    tried) and the flashing samples themselves, each thinned to at most :data:`MAX_FIELD_CENTRES`.
+    """
     weights = sequence.solid_angle[mask]
     if weights.sum() <= 0:
         return 0.0
     vectors = sequence.direction[mask]
-    centres = vectors[:: max(1, len(vectors) // MAX_FIELD_CENTRES)]
+    rows, columns = np.nonzero(mask)
+    box = sequence.direction[rows.min():rows.max() + 1, columns.min():columns.max() + 1].reshape(-1, 3)
+    centres = np.concatenate([box[:: max(1, len(box) // MAX_FIELD_CENTRES)],
+                              vectors[:: max(1, len(vectors) // MAX_FIELD_CENTRES)]])
     inside = centres @ vectors.T >= np.cos(FIELD_HALF_ANGLE)
     return float(min((inside @ weights).max(), TEN_DEGREE_FIELD_SR))
 
 
 def analyse_sequence(compiled, *, ladder=None, stride: int | None = None) -> dict:
     """General and red flash results for the whole frame sequence of a compiled protocol.
+
+    Every one-second window of the session is analysed once: each different stretch of consecutive trials (a trial
+    with the one before it and those covering the second after it; :func:`stimlab.audit.sequence.segments`) is
+    drawn and counted, for the windows starting in its own trial.
 
     Parameters
     ----------
@@ -108,34 +118,52 @@ def analyse_sequence(compiled, *, ladder=None, stride: int | None = None) -> dic
     dict
         ``{"general", "red_wcag22", "red_harding"}``, each with ``max_flashes_per_second``, ``flashing_area_sr``
         (largest within a 10° field, sr), ``fails``, and where and when the most flashes are: ``stimulus``,
-        ``transition`` (the window spans a phase change), ``trial``, ``phase``, ``at_s`` (seconds into the phase),
-        ``sequence_s`` (seconds into the sequence); plus ``fails``, ``frames_analysed`` and ``samples``.
+        ``transition`` (the window spans a phase change), ``trial``, ``phase``, ``phases`` (those the window spans)
+        and ``at_s`` (seconds into the phase); plus ``fails``, ``frames_analysed`` and ``samples``.
     """
     data = compiled.data
+    grid = sampling(data, stride)
+    cache: dict = {}
+    signal_cache: dict = {}
+    phase_signals: dict = {}
+    definitions = {"general": None, **{f"red_{d}": d for d in RED_DEFINITIONS}}
+    result = {key: None for key in definitions}
+    frames_analysed = 0
+    for trials, own in segments(data):
+        sequence = build_sequence(compiled, trials, ladder=ladder, cache=cache, grid=grid)
+        frames_analysed += sequence.total_frames
+        own_frames = [o.start for o in sequence.occurrences if o.trial == own]
+        own_end = max(o.start + o.frames for o in sequence.occurrences if o.trial == own)
+        signals, owner = _signals(compiled, sequence, signal_cache, phase_signals)
+        for key, definition in definitions.items():
+            found = _summarise(sequence, data, signals, owner, definition, (min(own_frames), own_end))
+            best = result[key]
+            if best is None or (found["fails"], found["max_flashes_per_second"], found["flashing_area_sr"]) > \
+                    (best["fails"], best["max_flashes_per_second"], best["flashing_area_sr"]):
+                result[key] = found
+    result["fails"] = any(result[k]["fails"] for k in definitions)
+    result["frames_analysed"] = frames_analysed
+    result["samples"] = int(grid[0].size * grid[1].size)
+    return result
+
+
+def _signals(compiled, sequence, cache, phase_signals):
     model = compiled.model
-    sequence = build_sequence(compiled, ladder=ladder, stride=stride)
-    runs = _class_runs(compiled, sequence)
     luminance_per_RGB = model.observer.w_L * model.M_LMS[0] + model.observer.w_M * model.M_LMS[1]
-    white = float(luminance_per_RGB.sum())
-    background = np.asarray(data["background"]["device"])
+    weights = luminance_per_RGB / float(luminance_per_RGB.sum())
+    background = np.asarray(compiled.data["background"]["device"])
     unique: dict = {}
     signals, owner = [], []
-    for levels, starts in runs:
+    for levels, starts in _class_runs(compiled, sequence, phase_signals):
         key = (levels.tobytes(), starts.tobytes())
         if key not in unique:  # many classes show the same colours frame for frame (e.g. a blob's outskirts)
             unique[key] = len(signals)
-            levels = np.where((levels < 0).any(axis=1)[:, None], background[None, :], levels)
-            signals.append(_Signal(device_to_RGB_linear(levels, model.level_outputs), starts, model,
-                                   luminance_per_RGB / white))
+            if key not in cache:
+                levels = np.where((levels < 0).any(axis=1)[:, None], background[None, :], levels)
+                cache[key] = _Signal(device_to_RGB_linear(levels, model.level_outputs), starts, model, weights)
+            signals.append(cache[key])
         owner.append(unique[key])
-    result = {}
-    definitions = {"general": None, **{f"red_{d}": d for d in RED_DEFINITIONS}}
-    for key, definition in definitions.items():
-        result[key] = _summarise(sequence, data, signals, np.array(owner), definition)
-    result["fails"] = any(result[k]["fails"] for k in definitions)
-    result["frames_analysed"] = sequence.total_frames
-    result["samples"] = int(sequence.classes.size)
-    return result
+    return signals, np.array(owner)
 
 
 class _Signal:
@@ -144,8 +172,14 @@ class _Signal:
     def __init__(self, RGB, starts, model, luminance_weights):
         self.RGB, self.starts, self.model, self.weights = RGB, starts, model, luminance_weights
         self._uv = None
+        self._frames: dict = {}
 
     def transition_frames(self, definition) -> np.ndarray:
+        if definition not in self._frames:
+            self._frames[definition] = self._transition_frames(definition)
+        return self._frames[definition]
+
+    def _transition_frames(self, definition) -> np.ndarray:
         if self.RGB.shape[0] < 2 * MAX_FLASHES_PER_SECOND + 2:
             return np.array([], dtype=int)  # too few changes in the whole sequence for more than three flashes
         if definition is None:
@@ -156,7 +190,8 @@ class _Signal:
         return self.starts[red_flash_transitions(self.RGB, self._uv, definition)]
 
 
-def _summarise(sequence, data, signals, owner, definition) -> dict:
+def _summarise(sequence, data, signals, owner, definition, own) -> dict:
+    """Flash counts for windows starting within ``own`` (first, end frame): the segment's own trial."""
     total, refresh = sequence.total_frames, sequence.refresh_hz
     fine = _fine_classes(sequence, data) if definition is None else set()
     counts_by_signal: dict = {}
@@ -167,7 +202,11 @@ def _summarise(sequence, data, signals, owner, definition) -> dict:
             continue
         if s not in counts_by_signal:
             frames = signals[s].transition_frames(definition)
-            counts_by_signal[s] = flashes_per_window(frames, total, refresh) if frames.size > 1 else None
+            counts = flashes_per_window(frames, total, refresh) if frames.size > 1 else None
+            if counts is not None:
+                counts[:own[0]] = 0
+                counts[own[1]:] = 0
+            counts_by_signal[s] = counts
         counts = counts_by_signal[s]
         if counts is None:
             continue
@@ -201,15 +240,23 @@ def _where(sequence, worst) -> dict:
     first = int(np.searchsorted(starts, frame, side="right") - 1)
     last = int(np.searchsorted(starts, frame + round(refresh), side="left") - 1)
     occurrence = sequence.occurrences[first]
-    shown = []
+    shown, modulated = [], []
     if worst["class"] is not None:
         sample = sequence.representative[worst["class"]]
         for o in sequence.occurrences[first:last + 1]:
             k = o.regions.keys[o.regions.labels.ravel()[sample]]
             name = k[0] if isinstance(k[0], str) else o.items[k[0]].name + ("" if k[1] == "colour" else " (surround)")
+            if not isinstance(k[0], str):
+                course = o.items[k[0]].course
+                if (len(course["cycle"]) > 1 or course["head"] or course["tail"]) and name not in modulated:
+                    modulated.append(name)
             if not shown or shown[-1] != name:
                 shown.append(name)
     phases = [o.phase for o in sequence.occurrences[first:last + 1]]
-    return {"stimulus": " → ".join(shown) if shown else None, "transition": len(phases) > 1 and len(shown) > 1,
-            "trial": occurrence.trial, "phase": occurrence.phase, "phases": phases,
-            "at_s": (frame - occurrence.start) / refresh, "sequence_s": frame / refresh}
+    # A stimulus that flickers or ramps in the window is named as the cause; otherwise the phase changes are.
+    transition = len(phases) > 1 and len(shown) > 1 and not modulated
+    if modulated:
+        shown = modulated
+    return {"stimulus": " → ".join(shown) if shown else None, "transition": transition,
+            "trial": occurrence.trial, "condition": occurrence.condition, "phase": occurrence.phase, "phases": phases,
+            "at_s": (frame - occurrence.start) / refresh}

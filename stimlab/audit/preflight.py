@@ -314,21 +314,22 @@ def _photosensitivity(findings, compiled, protocol) -> bool:
     if flicker:
         findings.add("photosensitivity", "warn", "protocol", "this protocol flickers. " + CAUTION)
     cases = [(analyse_sequence(compiled), "")]
-    ends = set()
+    ends = {}
     for condition in compiled.conditions:
         response = condition.response
         if response is not None and response.kind == "adjustment" and \
                 condition.stimuli[response.target].time_course["kind"] != "steady":
-            ends.update({0, len(response.RGB) - 1})  # a flickering adjusted target: the reach of the adjustment too
-    for end in sorted(ends):
-        cases.append((analyse_sequence(compiled, ladder=end), f" (adjusted to ladder entry {end})"))
+            for end in (0, len(response.RGB) - 1):  # a flickering adjusted target: the reach of the adjustment too
+                ends.setdefault(end, ", ".join(f"{p:+g}" for p in response.grid[end]))
+    for end, position in sorted(ends.items()):
+        cases.append((analyse_sequence(compiled, ladder=end), f" (adjusted to position {position})"))
     seen = set()
     for result, label in cases:
-        _flash_findings(findings, result, label, seen)
+        _flash_findings(findings, compiled, result, label, seen)
     return flicker
 
 
-def _flash_findings(findings, result, label, seen):
+def _flash_findings(findings, compiled, result, label, seen):
     for key, name in (("general", "general"), ("red_wcag22", "red (WCAG 2.2 / ISO 9241-391)"),
                       ("red_harding", "red (Harding & Binnie)")):
         r = result[key]
@@ -336,7 +337,7 @@ def _flash_findings(findings, result, label, seen):
             continue
         what = ("the change between phases " + " → ".join(r["phases"]) + f" ({r['stimulus']})") if r["transition"] \
             else r["stimulus"]
-        where = f"trial {r['trial'] + 1} / {r['phase']} / {what}{label}"
+        where = f"{compiled.data['conditions'][r['condition']]['label']} / {what}{label}"
         signature = (key, r["max_flashes_per_second"], round(r["flashing_area_sr"], 5), r["stimulus"], r["fails"])
         if signature in seen:
             continue

@@ -19,7 +19,7 @@ import numpy as np
 from ..experiment.render import frame_items, phase_regions, schedule_of
 from ..experiment.timecourse import STEPS, steps_for_phase
 
-__all__ = ["Occurrence", "Sequence", "build_sequence", "SAMPLE_DEG", "RESPOND_FRAMES_S"]
+__all__ = ["Occurrence", "Sequence", "build_sequence", "segments", "sampling", "SAMPLE_DEG", "RESPOND_FRAMES_S"]
 
 SAMPLE_DEG = 0.2
 """The audit samples a pixel about every 0.2° (at least every pixel): finer than the smallest flash area matters."""
@@ -59,7 +59,8 @@ class Sequence:
     occurrences: list = field(default_factory=list)
 
 
-def _sampling(data: dict, stride: int | None):
+def sampling(data: dict, stride: int | None = None):
+    """Sample pixel columns and rows, each sample's solid angle (sr) and direction from the eye (unit vectors)."""
     width, height = data["display"]["size_px"]
     if stride is None:
         stride = max(1, int(data["pixels_per_degree"] * SAMPLE_DEG))
@@ -78,41 +79,105 @@ def _sampling(data: dict, stride: int | None):
     return columns, rows, solid_angle, direction
 
 
-def build_sequence(compiled, *, ladder=None, stride: int | None = None) -> Sequence:
-    """The frame sequence of every trial in compiled order (``ladder``: adjustment position shown, default start)."""
+def _phase_frames(phase: dict, refresh: float) -> int:
+    frames = phase.get("frames")
+    if frames is None:
+        timeout = phase.get("timeout_frames") or math.inf
+        frames = int(min(timeout, RESPOND_FRAMES_S * refresh))
+    return frames
+
+
+def segments(data: dict) -> list[tuple[list[int], int]]:
+    """Stretches of consecutive trials that together contain every one-second window of the session.
+
+    Returns ``(trials, own)`` pairs: the trial ``own`` with the trial before it and the trials after it that cover
+    at least one second, once for each different such stretch. Trials are told apart by condition, schedule and
+    2AFC side; those that differ only in an adjustment's start position count as the same (the reach of the
+    adjustment is analysed separately, at its ladder ends).
+    """
+    refresh = data["display"]["refresh_hz"]
+    trials = data["trials"]
+    lengths = {}
+    kinds = []
+    for t, trial in enumerate(trials):
+        which = schedule_of(data, trial, t == 0)
+        kinds.append((trial["condition"], which, trial.get("target_side")))
+        if which not in lengths:
+            lengths[which] = sum(_phase_frames(p, refresh) for p in data["schedules"][which])
+    seen, out = set(), []
+    for t in range(len(trials)):
+        end, covered = t, 0
+        while end + 1 < len(trials) and covered < refresh:
+            end += 1
+            covered += lengths[kinds[end][1]]
+        first = max(0, t - 1)
+        key = (kinds[first] if first < t else None, kinds[t], tuple(kinds[t + 1:end + 1]), t == 0)
+        if key not in seen:
+            seen.add(key)
+            out.append((list(range(first, end + 1)), t))
+    return out
+
+
+def build_sequence(compiled, trials=None, *, ladder=None, stride: int | None = None, cache: dict | None = None,
+                   grid=None) -> Sequence:
+    """The frame sequence of ``trials`` (indices in compiled order, default all) as the runner shows them in a row.
+
+    ``ladder``: an adjustment position shown in respond phases (default: each trial's start); ``cache`` (regions)
+    and ``grid`` (:func:`sampling`) may be shared between calls on the same compiled protocol.
+    """
     data = compiled.data
     refresh = data["display"]["refresh_hz"]
-    columns, rows, solid_angle, direction = _sampling(data, stride)
-    cache: dict = {}
+    columns, rows, solid_angle, direction = grid or sampling(data, stride)
+    cache = {} if cache is None else cache
     occurrences = []
     start = 0
-    for t, trial in enumerate(data["trials"]):
+    maps = {}
+    for t in range(len(data["trials"])) if trials is None else trials:
+        trial = data["trials"][t]
         which = schedule_of(data, trial, t == 0)
         for p, phase in enumerate(data["schedules"][which]):
-            frames = phase.get("frames")
-            plan_frames = frames
-            if frames is None:
-                timeout = phase.get("timeout_frames") or math.inf
-                frames = int(min(timeout, RESPOND_FRAMES_S * refresh))
+            frames = _phase_frames(phase, refresh)
             if frames == 0:
                 continue
             items = frame_items(data, trial, phase, ladder=ladder)
             fixation = phase.get("fixation", True)
-            key = (which, p, trial.get("target_side"))
+            key = (which, p, trial.get("target_side"), columns.size, rows.size)
             if key not in cache:
                 cache[key] = phase_regions(data, items, fixation and bool(data.get("fixation")), columns, rows)
+            maps[key] = cache[key]
             occurrences.append(Occurrence(t, trial["condition"], phase["phase"], p, start, frames, items,
-                                          cache[key], fixation, plan_frames))
+                                          cache[key], fixation, phase.get("frames")))
             start += frames
-    # Classes: samples with the same region label in every distinct region map.
-    composite = np.zeros(rows.size * columns.size, dtype=np.int64)
-    for regions in {id(r): r for r in cache.values()}.values():
-        combined = composite * (len(regions.keys) + 1) + regions.labels.ravel()
-        _, composite = np.unique(combined, return_inverse=True)
+    # Classes: samples with the same region label in every distinct region map (once per set of maps).
+    classes_key = ("classes", *sorted(maps))
+    if classes_key not in cache:
+        composite = np.zeros(rows.size * columns.size, dtype=np.int64)
+        bound = 1
+        for regions in maps.values():
+            if bound * (len(regions.keys) + 1) > 2**62:  # renumber before the codes could overflow
+                _, composite = np.unique(composite, return_inverse=True)
+                composite, bound = composite.ravel(), int(composite.max()) + 1
+            composite = composite * (len(regions.keys) + 1) + regions.labels.ravel()
+            bound *= len(regions.keys) + 1
+        _, representative, composite = np.unique(composite, return_index=True, return_inverse=True)
         composite = composite.ravel()
-    _, representative = np.unique(composite, return_index=True)
-    return Sequence(float(refresh), start, columns, rows, solid_angle, direction,
-                    composite.reshape(rows.size, columns.size), representative, occurrences)
+        cache[classes_key] = (composite.reshape(rows.size, columns.size), representative)
+    classes, representative = cache[classes_key]
+    return Sequence(float(refresh), start, columns, rows, solid_angle, direction, classes, representative,
+                    occurrences)
+
+
+_ARRAYS: dict = {}
+
+
+def _as_array(table: list) -> np.ndarray:
+    """A compiled table of device levels as an (n, 3) array, −1 where out of gamut (kept while the list lives)."""
+    key = id(table)
+    if key not in _ARRAYS or _ARRAYS[key][0] is not table:
+        if len(_ARRAYS) > 256:
+            _ARRAYS.clear()
+        _ARRAYS[key] = (table, np.array([t if t is not None else (-1, -1, -1) for t in table], dtype=np.int64))
+    return _ARRAYS[key][1]
 
 
 def _table_levels(data, item, region, steps: np.ndarray, value) -> np.ndarray:
@@ -120,9 +185,13 @@ def _table_levels(data, item, region, steps: np.ndarray, value) -> np.ndarray:
     from ..experiment.plan import PROFILE_SCALE
 
     def pick(table, index):
-        return np.array([t if t is not None else (-1, -1, -1) for t in table], dtype=np.int64)[index]
+        return _as_array(table)[index]
 
-    response = item.response
+    response = item.response if region == "colour" else None  # a ladder sets the first colour only
+    if item.response is not None and region == "second_colour":
+        device = item.stimulus["second_colour"]["device"]
+        return np.repeat(np.array(device if device is not None else (-1, -1, -1), dtype=np.int64)[None, :],
+                         steps.size, axis=0)
     if response is not None:
         if response["kind"] == "adjustment":
             normal = pick(response["device"], np.full(steps.size, item.ladder))
@@ -154,7 +223,10 @@ def region_signal(data: dict, occurrence: Occurrence, key: tuple) -> tuple[np.nd
         return np.array([levels], dtype=np.int64), np.zeros(1, dtype=np.int64)
     i, region, value = key
     item = occurrence.items[i]
-    steps = steps_for_phase(item.course, occurrence.frames)  # an open-ended phase's course has no tail
+    course = item.course
+    if len(course["cycle"]) == 1 and not course["head"] and not course["tail"]:  # steady: one run
+        return _table_levels(data, item, region, np.array(course["cycle"]), value), np.zeros(1, dtype=np.int64)
+    steps = steps_for_phase(course, occurrence.frames)  # an open-ended phase's course has no tail
     unique, inverse = np.unique(steps, return_inverse=True)
     levels = _table_levels(data, item, region, unique, value)[inverse.ravel()]
     change = np.r_[True, np.any(levels[1:] != levels[:-1], axis=1)]

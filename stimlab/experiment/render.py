@@ -29,7 +29,7 @@ from .plan import patch_indices
 from .timecourse import STEPS, steps_at
 
 __all__ = ["EDGE_PX", "Item", "Regions", "frame_items", "phase_regions", "region_levels", "render_frame",
-           "schedule_of", "trial_frames"]
+           "render_frames", "schedule_of", "trial_frames"]
 
 EDGE_PX = 1.0
 """Pixels within this distance (px) of an outline may be blended by the canvas: left out of comparisons."""
@@ -95,6 +95,8 @@ def region_levels(item: Item, region: str, step: int, profile_value: int | None 
     ``profile_value`` is a patch pixel's whole-number profile value (Gaussian blobs and gratings).
     """
     stimulus, response = item.stimulus, item.response
+    if response is not None and region == "second_colour":  # a ladder sets the first colour only
+        return _levels(stimulus["second_colour"]["device"])
     if response is not None:
         if response["kind"] == "adjustment":
             table = response["device_opposite"] if step < 0 and response.get("device_opposite") else response["device"]
@@ -247,10 +249,20 @@ def render_frame(data: dict, trial_index: int, phase_index: int, frame: int, *, 
     edges : ndarray of bool, shape (rows, columns)
         Pixels an anti-aliased outline may blend.
     """
+    levels, edges = next(render_frames(data, trial_index, phase_index, [frame], columns=columns, rows=rows,
+                                       first_in_run=first_in_run, ladder=ladder))
+    return levels, edges
+
+
+def render_frames(data: dict, trial_index: int, phase_index: int, frames, *, columns=None, rows=None,
+                  first_in_run: bool | None = None, ladder: int | None = None):
+    """:func:`render_frame` for several frames of one phase, drawing the phase's regions once; yields
+    ``(levels, edges)`` per frame."""
     trial = data["trials"][trial_index]
     phase = trial_frames(data, trial, phase_index, trial_index == 0 if first_in_run is None else first_in_run)
     items = frame_items(data, trial, phase, ladder=ladder)
     regions = phase_regions(data, items, phase.get("fixation", True), columns, rows)
-    steps = [steps_at(item.course, frame, phase.get("frames")) for item in items]
-    palette = np.array([key_levels(data, items, key, steps) for key in regions.keys], dtype=int)
-    return palette[regions.labels], regions.edges
+    for frame in frames:
+        steps = [steps_at(item.course, frame, phase.get("frames")) for item in items]
+        palette = np.array([key_levels(data, items, key, steps) for key in regions.keys], dtype=int)
+        yield palette[regions.labels], regions.edges

@@ -33,6 +33,21 @@ export class Painter {
     return Array.from(pixel.data.slice(0, 3), (v) => (this.wide ? Math.round(v * this.dMax) : v));
   }
 
+  // Device levels at the pixels columns × rows (row by row, three per pixel): the parity test reads the canvas back.
+  read(columns, rows) {
+    const { width, height } = this.canvas;
+    const data = this.wide ? this.ctx.getImageData(0, 0, width, height, { pixelFormat: "rgba-float16" }).data
+      : this.ctx.getImageData(0, 0, width, height).data;
+    const out = [];
+    for (const y of rows) {
+      for (const x of columns) {
+        const o = 4 * (y * width + x);
+        for (let c = 0; c < 3; c++) out.push(this.wide ? Math.round(data[o + c] * this.dMax) : data[o + c]);
+      }
+    }
+    return out;
+  }
+
   at(position) {
     return [this.centre[0] + position[0], this.centre[1] - position[1]];
   }

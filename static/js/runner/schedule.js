@@ -35,6 +35,7 @@ export class Schedule {
     const params = new URLSearchParams(location.search);
     this.durations = params.get("measure") === "1" ? [] : null;
     this.logFrames = params.get("log_frames") !== "0";
+    this.testMode = params.get("test") === "frames"; // probe(): the parity test with the reference renderer
   }
 
   start() {
@@ -105,10 +106,10 @@ export class Schedule {
   }
 
   // The colour of a stimulus this frame, as device levels (or a per-pixel patch description).
-  item(name) {
+  item(name, position) {
     const c = this.trial.condition.stimuli[name];
     const phase = this.phase;
-    const course = this.data.plan.courses[phase.courses[phase.stimuli.indexOf(name)]];
+    const course = this.data.plan.courses[phase.courses[position]];
     const step = stepAt(course, this.inPhase, phase.frames);
     const g = { ...c.geometry };
     const response = this.trial.condition.response;
@@ -140,6 +141,29 @@ export class Schedule {
       if (c.second_colour?.modulation_table) item.second = c.second_colour.modulation_table[step + STEPS];
     }
     return item;
+  }
+
+  // Test mode only (?test=frames): draw one frame of the plan without running the loop and read back the device
+  // levels at the pixels columns × rows, for comparison with stimlab/experiment/render.py.
+  probe(trialIndex, phaseIndex, frame, columns, rows, ladder = null) {
+    if (!this.testMode) throw new Error("probe() needs ?test=frames");
+    const trial = this.data.trials[trialIndex];
+    const which = trialIndex === 0 || trial.schedule === "first" ? "first" : "repeat";
+    this.trial = { ...trial, phases: this.data.schedules[which], condition: this.data.conditions[trial.condition] };
+    this.phaseIndex = phaseIndex;
+    this.inPhase = frame;
+    const phase = this.phase;
+    this.responder = null;
+    if (phase.phase === "respond") {
+      this.responder = new Responder(phase.response, this.trial.condition.response, phase);
+      if (phase.response === "staircase") this.responder.staircase = this.staircase(this.trial.condition.index);
+      this.responder.begin(this.trial, 0);
+      if (ladder !== null && this.responder.position) this.responder.position = [ladder];
+    }
+    const items = phase.stimuli.map((name, i) => this.item(name, i));
+    this.painter.draw({ background: this.data.background.device, items,
+      fixation: phase.fixation !== false && this.data.fixation ? this.data.fixation : null });
+    return this.painter.read(columns, rows);
   }
 
   tick(stamp) {
@@ -178,7 +202,7 @@ export class Schedule {
         condition: this.trial.condition.index, practice: Boolean(this.trial.practice) });
       if (phase.phase === "respond") this.responder?.begin(this.trial, stamp);
     }
-    const items = phase.stimuli.map((name) => this.item(name));
+    const items = phase.stimuli.map((name, i) => this.item(name, i));
     const showFixation = phase.fixation !== false && this.data.fixation;
     this.painter.draw({ background: this.data.background.device, items,
       fixation: showFixation ? this.data.fixation : null });
