@@ -16,6 +16,7 @@ import jsonschema
 
 from ..colorimetry.observers import OBSERVERS
 from ..errors import InputError
+from .labels import explain_schema_error, field_label, plain_words
 
 __all__ = ["load_protocol", "parse_protocol", "validate_protocol", "protocol_schema", "json_path",
            "protocol_sha256", "CAUTION"]
@@ -51,29 +52,6 @@ def _deepest(error):
     return error
 
 
-def _explain(error) -> str:
-    value = error.instance
-    shown = json.dumps(value) if not isinstance(value, (dict, list)) or len(json.dumps(value)) < 60 else "…"
-    if error.validator == "enum":
-        return f"{shown} is not allowed; use one of: {', '.join(json.dumps(v) for v in error.validator_value)}"
-    if error.validator == "const":
-        return f"{shown} is not allowed; it must be {json.dumps(error.validator_value)}"
-    if error.validator == "additionalProperties":
-        allowed = sorted(error.schema.get("properties", {}))
-        extra = sorted(set(value) - set(allowed)) if isinstance(value, dict) else []
-        if allowed:
-            return f"unexpected field(s) {', '.join(extra)}; allowed: {', '.join(allowed)}"
-        return f"unexpected field(s) {', '.join(extra)}"
-    if error.validator == "type":
-        return f"{shown} is not a {error.validator_value}"
-    if error.validator == "pattern":
-        hint = "a '$variable' reference" if "\\$" in error.validator_value else f"text matching {error.validator_value}"
-        return f"{shown} is not allowed here; expected a number or {hint}"
-    if error.validator in ("minProperties", "maxProperties") and "cone_contrast" in error.schema.get("properties", {}):
-        return f"give exactly one colour space ({', '.join(sorted(error.schema['properties']))})"
-    return error.message
-
-
 def validate_protocol(data, name: str = "protocol") -> dict:
     """Check a protocol against the schema and its own references; return it unchanged when it is valid.
 
@@ -85,8 +63,14 @@ def validate_protocol(data, name: str = "protocol") -> dict:
     errors = sorted(_validator().iter_errors(data), key=lambda e: (list(map(str, e.absolute_path)), e.message))
     if errors:
         error = _deepest(errors[0])
-        raise InputError(_explain(error), file=name, field=json_path(error.absolute_path))
-    _check_references(data, name)
+        raise InputError(explain_schema_error(error, data), file=name, field=json_path(error.absolute_path))
+    try:
+        _check_references(data, name)
+    except InputError as error:  # the same words as the form: the field's label, then the problem
+        if not error.field or error.field == "(top level)":
+            raise
+        raise InputError(f"{field_label(error.field, data)}: {plain_words(error.message)}", file=error.file,
+                         field=error.field) from None
     return data
 
 
