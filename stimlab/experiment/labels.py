@@ -162,6 +162,8 @@ def component_names(path: str, protocol=None) -> tuple[str, ...] | None:
     parent = _at(protocol, parts[:-1]) if protocol is not None else None
     if key in COMPONENTS:
         return COMPONENTS[key]
+    if len(parts) >= 2 and parts[-2] == "limits" and isinstance(parts[-1], int):
+        return ("low", "high")
     if key == "limits" and isinstance(parent, dict):
         limits = parent.get("limits")
         if isinstance(limits, list) and limits and isinstance(limits[0], list):

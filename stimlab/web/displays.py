@@ -127,7 +127,9 @@ def _text(upload, field: str) -> str:
 @blueprint.get("/displays")
 def index():
     displays = current_store().displays(g.db)
-    return render_template("displays.html", displays=[{**d, "summary": summary(d["profile"])} for d in displays])
+    return render_template("displays.html", displays=[{**d, "summary": summary(d["profile"])} for d in displays],
+                           default_id=chosen_default_id(),
+                           default_chosen=current_store().setting(g.db, DEFAULT_DISPLAY) is not None)
 
 
 @blueprint.get("/displays/new")
@@ -157,7 +159,7 @@ def show(display_id: int):
                                       ("S", "−", 0, background.DKL_limits[2, 0]))]
     return render_template("display.html", display=display, summary=summary(profile),
                            transfer=transfer_plot(profile), plane=dkl_plane_plot(background, axes),
-                           mb=macleod_boynton_plot(model))
+                           mb=macleod_boynton_plot(model), is_default=display["id"] == chosen_default_id())
 
 
 # -- API ------------------------------------------------------------------------------------------------------
@@ -190,11 +192,61 @@ def api_create():
 
 
 def default_display_id(requested=None) -> int | None:
-    """The display to audit against: the one asked for, else the most recently added."""
+    """The display to audit against: the one asked for, else the lab's default (a stored setting), else the first
+    display added. Adding a display never changes it."""
     if requested not in (None, ""):
         try:
             return _get(int(requested))["id"]
         except ValueError:
             raise WebError(f"display must be a number, got {requested!r}", field="display") from None
-    displays = current_store().displays(g.db)
-    return displays[0]["id"] if displays else None
+    return chosen_default_id()
+
+
+DEFAULT_DISPLAY = "default_display"
+
+
+def chosen_default_id() -> int | None:
+    chosen = current_store().setting(g.db, DEFAULT_DISPLAY)
+    if chosen is not None and current_store().display(g.db, chosen) is not None:
+        return chosen
+    row = g.db.execute("SELECT MIN(id) FROM displays").fetchone()
+    return row[0]
+
+
+def _set_default(display_id: int) -> int:
+    display_id = _get(display_id)["id"]
+    current_store().set_setting(g.db, DEFAULT_DISPLAY, display_id)
+    return display_id
+
+
+@blueprint.post("/displays/<int:display_id>/default")
+def make_default(display_id: int):
+    _set_default(display_id)
+    back = request.form.get("next") or ""
+    return redirect(back if back.startswith("/displays") else url_for("displays.index"), 303)
+
+
+@blueprint.put("/api/settings/default-display")
+def api_set_default():
+    body = request.get_json(silent=True)
+    if not isinstance(body, dict) or not isinstance(body.get("display"), int):
+        raise WebError("send {\"display\": <display id>}", field="display")
+    return {"default_display": _set_default(body["display"])}
+
+
+@blueprint.get("/api/settings/default-display")
+def api_default():
+    return {"default_display": chosen_default_id(),
+            "chosen": current_store().setting(g.db, DEFAULT_DISPLAY) is not None}
+
+
+@blueprint.get("/displays/<int:display_id>/profile.json")
+def download(display_id: int):
+    import json
+
+    from flask import Response
+
+    display = _get(display_id)
+    slug = "".join(c if c.isalnum() or c in "-_" else "_" for c in display["name"]).strip("_") or "display"
+    return Response(json.dumps(display["profile"], indent=1, ensure_ascii=False) + "\n", mimetype="application/json",
+                    headers={"Content-Disposition": f'attachment; filename="{slug}_v{display["version"]}.json"'})
