@@ -13,6 +13,7 @@ from ..colorimetry.adaptation import induced_match_cone_contrast, null_cone_cont
 from ..colorimetry.device import device_to_RGB_linear
 from ..colorimetry.display import CHANNELS
 from ..colorimetry.gamut import scale_limit
+from ..experiment.labels import axis_name as direction_name
 from ..experiment.protocol import CAUTION
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, profile_warnings
 from .photosensitivity import analyse_condition
@@ -126,9 +127,9 @@ def _colour(findings, compiled, stimulus, key, where):
 def _response(findings, compiled, response, label):
     where = f"{label} / {response['kind']} of {response['target']}"
     positions = response["_positions"]
-    inside = np.array(response["in_gamut"])
+    inside = np.array(response["in_gamut"]) | ~np.array(response.get("reachable", True))  # unreachable: no matter
     axes = response["_axes"]
-    low, high = positions[0], positions[-1]
+    limits = response.get("_limits", np.array([[positions[0], positions[-1]]] * len(axes)))
     origin_RGB = compiled.model.LMS_to_RGB_linear(
         compiled.background.colour_to_LMS(response["space"], response["_base"]))
     for d, axis in enumerate(axes):
@@ -136,7 +137,8 @@ def _response(findings, compiled, response, label):
             compiled.background.colour_to_LMS(response["space"], response["_base"] + axis)) - origin_RGB
         top, top_channel = scale_limit(origin_RGB, step_RGB)
         bottom, bottom_channel = scale_limit(origin_RGB, -step_RGB)
-        axis_name = f" along axis {d + 1}" if len(axes) > 1 else ""
+        axis_name = f" along {direction_name(axis.tolist(), response['space'])}" if len(axes) > 1 else ""
+        low, high = limits[d]
         for limit, edge, channel, sign in ((high, float(top), top_channel, 1), (low, -float(bottom), bottom_channel, -1)):
             if sign * limit > sign * edge + 1e-9:
                 findings.add("gamut", "fail", where,
@@ -192,7 +194,9 @@ def _prediction(findings, compiled, model, index, response, label):
     axes = response["_axes"]
     position, *_ = np.linalg.lstsq(axes.T, target - response["_base"], rcond=None)
     off_line = float(np.linalg.norm(response["_base"] + position @ axes - target))
-    low, high = response["_positions"][0], response["_positions"][-1]
+    limits = response.get("_limits", np.array([[response["_positions"][0], response["_positions"][-1]]] * len(axes)))
+    low, high = limits[:, 0], limits[:, 1]
+    shown_limits = " and ".join(f"[{a:g}, {b:g}]" for a, b in limits)
     margin = float(np.min(np.r_[position - low, high - position]))
     fits, _ = scale_limit(background.RGB_0, background.model.LMS_to_RGB_linear(LMS) - background.RGB_0)
     where = f"{label} / predicted {what}"
@@ -201,7 +205,7 @@ def _prediction(findings, compiled, model, index, response, label):
     shown = ", ".join(f"{p:+.3f}" for p in position)
     if margin < 0:
         findings.add("prediction", "fail", where, f"von Kries (k={k:g}) predicts the {what} at position {shown}, "
-                     f"outside the limits [{low:g}, {high:g}] by {-margin:.3f}; widen the limits", **values)
+                     f"outside the limits {shown_limits} by {-margin:.3f}; widen the limits", **values)
     elif fits < 1:
         findings.add("prediction", "fail", where, f"the predicted {what} is out of gamut (only ×{float(fits):.3f} "
                      "fits); reduce the adapting or inducing contrast", **values)

@@ -227,7 +227,9 @@ def optional_fields(path: str, value: dict, protocol=None) -> list[tuple[str, st
         if node.get("type") == "array" and isinstance(node.get("items"), dict):
             node = resolve(node["items"])
     properties = node.get("properties", {}) if isinstance(node, dict) else {}
-    if "cone_contrast" in properties and "scale" in properties:  # a colour: one space, so only scale can be added
-        return [] if "scale" in value else [("scale", short_label(f"{path}.scale", protocol))]
+    if "cone_contrast" in properties and "dkl" in properties:  # one colour space: only a colour's scale can be added
+        if "scale" not in properties or "scale" in value:
+            return []
+        return [("scale", short_label(f"{path}.scale", protocol))]
     return [(key, short_label(f"{path}.{key}" if path else key, protocol)) for key in properties
             if key not in value and key != "stimlab_protocol"]

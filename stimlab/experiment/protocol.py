@@ -203,7 +203,14 @@ def _check_response(response: dict, names: dict, variables: dict, fail, *path) -
                  "condition", *path, "axis")
     if method == "adjustment" and ("axis" in response) == ("plane" in response):
         fail("an adjustment moves along one axis or in one plane: give exactly one of axis, plane", *path)
-    if "limits" in response and response["limits"][0] >= response["limits"][1]:
+    limits = response.get("limits")
+    if limits and isinstance(limits[0], list):
+        if method != "adjustment" or "plane" not in response:
+            fail("limits per direction apply to an adjustment in a plane; give one [low, high] here", *path, "limits")
+        for k, pair in enumerate(limits):
+            if pair[0] >= pair[1]:
+                fail("limits must be [low, high] with low < high", *path, "limits", k)
+    elif limits and limits[0] >= limits[1]:
         fail("limits must be [low, high] with low < high", *path, "limits")
     if "step_coarse" in response and response["step_coarse"] < response.get("step_fine", 0):
         fail("step_coarse must not be smaller than step_fine", *path, "step_coarse")

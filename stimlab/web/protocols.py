@@ -91,9 +91,10 @@ def plane_for(compiled) -> dict:
         if response is None or response["space"] != "dkl":
             continue
         positions = response["_positions"]
-        for axis in response["_axes"]:
+        limits = response.get("_limits", [(positions[0], positions[-1])] * len(response["_axes"]))
+        for axis, (low, high) in zip(response["_axes"], limits):
             ends = [background.LMS_to_space("dkl", background.colour_to_LMS("dkl", response["_base"] + p * axis))
-                    for p in (positions[0], positions[-1])]
+                    for p in (low, high)]
             segments.append({"label": f"{response['kind']} of {response['target']} ({condition['label']})",
                              "from": (float(ends[0][1]), float(ends[0][2])), "to": (float(ends[1][1]),
                                                                                    float(ends[1][2])),
