@@ -21,6 +21,7 @@ from ..sessions.export import (
 )
 from ..sessions.ingest import get_session, progress
 from . import current_store
+from .adjustments import check_before_saving, photometry_context
 from .errors import NotFound, WebError
 from .plots import _Axes
 
@@ -131,30 +132,35 @@ def photometry_summary(session: dict, rows: list[dict]) -> dict | None:
     settings = [float(r["response_position"]) for r in rows if r.get("response_position") not in (None, "")]
     if len(settings) < 2:
         return {"settings": settings, "error": "at least two settings are needed"}
-    return summarise_settings(amplitude, settings, LMS_0, obs) | {"standard_observer": obs.key}
+    try:
+        return summarise_settings(amplitude, settings, LMS_0, obs) | {"standard_observer": obs.key}
+    except ValueError as error:  # the mean setting implies no positive L/M ratio
+        return {"settings": settings, "error": str(error)}
 
 
 @blueprint.post("/sessions/<int:session_id>/observer-adjustment")
 def save_adjustment(session_id: int):
     from flask import redirect, url_for
 
-    _store_adjustment(session_id)
+    _store_adjustment(session_id, request.form.get("override_reason"))
     return redirect(url_for("sessions.show", session_id=session_id), 303)
 
 
 @blueprint.post("/api/sessions/<int:session_id>/observer-adjustment")
 def api_save_adjustment(session_id: int):
-    adjustment_id, summary = _store_adjustment(session_id)
+    body = request.get_json(silent=True) or {}
+    adjustment_id, summary = _store_adjustment(session_id, body.get("override_reason"))
     return {"id": adjustment_id, **summary}, 201
 
 
-def _store_adjustment(session_id: int):
+def _store_adjustment(session_id: int, override_reason: str | None = None):
     session = session_or_404(session_id)
     summary = photometry_summary(session, trial_rows(g.db, session))
     if summary is None:
         raise WebError("this session is not a flicker photometry task", field="session")
     if "error" in summary:
         raise WebError(f"cannot estimate the observer's weights: {summary['error']}", field="session")
+    summary = check_before_saving(summary, override_reason)  # refuses an unreliable result without a reason
     adjustment_id = current_store().add_adjustment(g.db, session["participant"], summary["standard_observer"],
                                                    summary, session_id, session["display_id"])
     return adjustment_id, summary
@@ -180,7 +186,8 @@ def show(session_id: int):
     return render_template("session.html", session=session, rows=rows, quality=quality, summary=summary,
                            photometry=photometry, saved_adjustment=saved,
                            vectors=vectors_plot(summary), histogram=histogram_plot(quality), display=display,
-                           progress=progress(g.db, session_id), formats=FORMATS)
+                           progress=progress(g.db, session_id), formats=FORMATS,
+                           **photometry_context(session, photometry))
 
 
 @blueprint.get("/sessions/<int:session_id>/export.<fmt>")
