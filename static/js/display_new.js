@@ -18,8 +18,7 @@ form.addEventListener("submit", async (event) => {
     return;
   }
   const error = result.body.error ?? {};
-  const where = [error.file, error.row ? `row ${error.row}` : null].filter(Boolean).join(", ");
-  alert.textContent = `Not added: ${where ? `${where}: ` : ""}${error.message ?? "the server refused the form"}`;
+  alert.textContent = `Not added: ${error.message ?? "the server refused the form"}`; // the message names file and row
   alert.hidden = false;
   // The field named, else the file input holding the file named (a CSV's column is not a form field).
   const input = (error.field ? form.querySelector(`[name="${CSS.escape(error.field)}"]`) : null) ??
