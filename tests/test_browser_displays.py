@@ -42,14 +42,15 @@ def test_an_upload_does_not_change_the_default_display(server, page, tmp_path):
     assert page.locator("select[name=display] option:checked").inner_text().startswith("Vale Street B12 LCD")
     # Choosing the default is explicit, on the display list.
     page.goto(server.url + "/displays")
-    page.get_by_role("button", name="Make Test upload LCD version 1 the default display").click()
+    page.locator("tr", has_text="Test upload LCD").get_by_role("button", name="Make version 1 of this display the "
+                                                                    "default").click()
     page.wait_for_url("**/displays")
     assert page.request.get(server.url + "/api/settings/default-display").json()["default_display"] == 2
     assert page.locator("tr", has=page.locator("#default-display")).inner_text().startswith("Test upload LCD")
     ARTIFACTS.mkdir(exist_ok=True)
     page.screenshot(path=str(ARTIFACTS / "displays_default.png"), full_page=True)
     with page.expect_download() as download:
-        page.get_by_role("link", name="Download the profile of Vale Street B12 LCD version 1 (JSON)").click()
+        page.locator("tr", has_text="Vale Street B12 LCD").get_by_role("link", name="download JSON").click()
     profile = json.loads(Path(download.value.path()).read_text())
     assert profile["sha256"] == page.request.get(server.url + "/api/displays/1").json()["sha256"]
     assert download.value.suggested_filename == "Vale_Street_B12_LCD_v1.json"

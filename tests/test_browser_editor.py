@@ -138,3 +138,43 @@ def test_validation_errors_use_the_field_label(server, page):
     assert page.locator("#audit-verdict").inner_text() == "Duration (s) of phase 2 (gap) must be 0 or more (it is -1)"
     assert page.get_by_label("Duration (s)").count() >= 2  # labels, not raw keys
     assert page.locator("label", has_text="duration_s").count() == 0
+
+
+RESPONSE_KEYS = {"afterimage_nulling": "Enter", "simultaneous_contrast_matching": "Enter", "afterimage_duration": " ",
+                 "detection_staircase": "ArrowLeft", "flicker_photometry": "Enter"}
+
+
+@pytest.mark.parametrize("key", [p["key"] for p in paradigms()])
+def test_a_protocol_from_each_template_runs_a_trial(server, page, key):
+    """Made from the template, durations shortened through the form's fields, then one trial in the runner."""
+    new_from_template(page, server.url, key, f"run_{key}")
+    for field in page.locator('input[name$="duration_s"], input[name$="top_up_s"]').all():
+        field.fill("0.2")
+    wait_for_audit(page)
+    page.get_by_role("button", name="Save", exact=True).click()
+    page.locator("#save-status", has_text="Saved").wait_for()
+    csrf = page.locator('meta[name="csrf-token"]').get_attribute("content")
+    created = page.request.post(f"{server.url}/api/sessions", headers={"X-CSRF-Token": csrf},
+                                data={"protocol": f"run_{key}.json", "display": 1, "participant": "P11"})
+    assert created.status == 201, created.text()
+    session_id = created.json()["id"]
+    page.goto(f"{server.url}/run/{session_id}")
+    page.wait_for_function("window.stimlabState === 'ready'", timeout=20000)
+    page.keyboard.press(" ")
+    page.wait_for_function("window.stimlabSchedule?.phase?.phase === 'respond' && "
+                           "window.stimlabSchedule.responder?.onset !== undefined", timeout=20000)
+    trial = page.evaluate("window.stimlabSchedule.trial.index")
+    page.keyboard.press(RESPONSE_KEYS[key])
+    page.wait_for_function(f"window.stimlabSchedule.trial?.index !== {trial} || window.stimlabState === 'finished'",
+                           timeout=20000)
+    import sqlite3
+
+    db = sqlite3.connect(server.data / "stimlab.sqlite")
+    ended = 0
+    for _ in range(100):  # the runner sends its log in batches
+        ended = db.execute("SELECT COUNT(*) FROM events WHERE session_id = ? AND kind = 'trial_end'",
+                           (session_id,)).fetchone()[0]
+        if ended:
+            break
+        page.wait_for_timeout(200)
+    assert ended >= 1
