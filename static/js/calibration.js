@@ -123,4 +123,5 @@ document.addEventListener("keydown", (event) => {
   if (event.key === "PageDown") { index = Math.min(plan.length - 1, index + 1); show(); }
   if (event.key === "PageUp") { index = Math.max(0, index - 1); show(); }
 });
+document.getElementById("go-fullscreen").disabled = false; // enabled once the run is loaded
 window.calibrationReady = true;
