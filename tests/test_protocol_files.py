@@ -58,3 +58,12 @@ def test_duplicate_rename_delete_restore(store):
     with pytest.raises(NotFoundError):
         delete_protocol(store, "missing.json")
     assert json.loads((store.protocols / "a.json").read_text())["about"]["title"]
+
+
+def test_a_deleted_demo_protocol_stays_in_the_trash_when_the_demo_is_installed_again(store):
+    from stimlab.profiles.demo import install_demo
+
+    install_demo(store)
+    delete_protocol(store, "afterimage_null.json")
+    install_demo(store)
+    assert "afterimage_null.json" not in store.protocol_names()
