@@ -32,6 +32,7 @@ def test_calibrate_with_a_simulated_instrument(server, page):
     page.wait_for_url("**/calibrations/*")
     run_url = page.url
     page.get_by_role("link", name="Show the patches full screen").click()
+    page.get_by_role("button", name="Full screen and show the patches").click()
 
     def measure(count):
         for _ in range(count):
@@ -51,6 +52,7 @@ def test_calibrate_with_a_simulated_instrument(server, page):
     ARTIFACTS.mkdir(exist_ok=True)
     page.screenshot(path=str(ARTIFACTS / "calibration_patch.png"))
     page.reload()  # an interrupted run continues at the first patch without a reading
+    page.get_by_role("button", name="Full screen and show the patches").click()
     page.wait_for_function("window.calibrationStep !== undefined")
     assert page.evaluate("window.calibrationStep.index") == 20
     state = measure(100)
@@ -74,9 +76,28 @@ def test_a_bad_reading_is_refused_naming_the_field(server, page):
     page.get_by_label("Display name").fill("Room D")
     page.get_by_role("button", name="Start the measurement run").click()
     page.get_by_role("link", name="Show the patches full screen").click()
+    page.get_by_role("button", name="Full screen and show the patches").click()
     page.wait_for_function("window.calibrationStep !== undefined")
     page.locator("#r-luminance").fill("bright")
     page.keyboard.press("Enter")
     page.locator("#reading-status.bad").wait_for()
     assert "'bright' is not a number" in page.locator("#reading-status").inner_text()
     assert page.evaluate("window.calibrationStep.index") == 0
+
+
+def test_patches_are_refused_on_a_screen_of_another_size(server, page):
+    """A run set up for 2560×1440 opened on this 1920×1080 screen: no patch, the reason instead."""
+    page.goto(server.url + "/calibrations/new")
+    page.get_by_label("Display name").fill("Room E")
+    page.get_by_label("Resolution (pixels)").fill("2560,1440")
+    page.get_by_role("button", name="Start the measurement run").click()
+    page.get_by_role("link", name="Show the patches full screen").click()
+    page.wait_for_function("window.calibrationReady === true")
+    page.get_by_role("button", name="Full screen and show the patches").click()
+    page.wait_for_function("typeof window.calibrationRefused === 'string'")
+    reason = page.locator("#gate-reason").inner_text()
+    assert "1920×1080" in reason and "2560×1440" in reason
+    assert page.evaluate("window.calibrationStep") is None
+    assert not page.locator("#reading").is_visible()
+    ARTIFACTS.mkdir(exist_ok=True)
+    page.screenshot(path=str(ARTIFACTS / "calibration_refused.png"))

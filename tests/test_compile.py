@@ -142,3 +142,34 @@ def test_random_valid_protocols_compile(demo, shapes, colours, course, durations
         colour = stimulus["colour"]
         assert (colour["device"] is not None) == colour["extremes"][-1]["in_gamut"]
     json.dumps(data, allow_nan=False)
+
+
+def test_a_plane_adjustment_takes_limits_per_direction(demo, protocol_named):
+    """Per-direction limits: the S direction reaches ±0.3, L−M only ±0.1; positions beyond a direction's own
+    limits have no device levels (the runner stops there), and the audit checks each direction's own limits."""
+    from stimlab.audit.preflight import audit_protocol
+    from stimlab.experiment.protocol import validate_protocol
+
+    protocol = protocol_named("contrast_match")
+    response = protocol["trial"][1]["response"]
+    response["limits"] = [[-0.1, 0.1], [-0.3, 0.3]]
+    response["step_fine"] = 0.01
+    compiled = compile_protocol(validate_protocol(protocol), demo)
+    entry = compiled.data["conditions"][0]["response"]
+    assert entry["limits_per_axis"] == [[-0.1, 0.1], [-0.3, 0.3]]
+    count = entry["positions"]["count"]
+    assert count == 61 and entry["positions"]["low"] == pytest.approx(-0.3)
+    grid = np.array(entry["device"], dtype=object).reshape(count, count)
+    # L−M index 0 (−0.3) is beyond its limit; S index 0 (−0.3) is within its own.
+    assert grid[0, 30] is None and grid[30, 0] is not None and grid[20, 0] is not None
+    for _ in range(20):
+        first, second = compiled.responses[0]["_start"](np.random.default_rng(_))
+        assert 20 <= first <= 40 and 0 <= second <= 60
+    report = audit_protocol(compiled, protocol, demo)
+    assert not [f for f in report["findings"] if f["kind"] == "gamut" and "positions are out of gamut" in f["message"]]
+    # One pair still works for both directions; a pair per direction on a single axis is refused.
+    protocol = protocol_named("afterimage_null")
+    protocol["trial"][2]["response"]["limits"] = [[-1, 1], [-1, 1]]
+    with pytest.raises(InputError) as caught:
+        validate_protocol(protocol)
+    assert caught.value.field == "trial[2].response.limits" and "per direction" in caught.value.message

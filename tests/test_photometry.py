@@ -123,3 +123,55 @@ def test_the_web_app_saves_an_adjustment_and_protocols_use_it(client):
     protocol["about"]["observer"] = "adjusted:P99"
     missing = client.post("/api/audit", headers=csrf, json={"protocol": protocol})
     assert missing.status_code == 400 and missing.get_json()["error"]["field"] == "about.observer"
+
+
+def test_spread_settings_are_not_reliable_by_the_default_criterion(LMS_0):
+    """A ratio near 0.5 from settings whose ratios scatter with an SD near 0.6 must not pass; consistent settings do.
+    The default criterion is stimlab's own (4 settings, ratio SD ≤ 0.40), not a published standard."""
+    from stimlab.colorimetry.photometry import DEFAULT_CRITERION, assess_reliability, reliability_criterion
+
+    rng = np.random.default_rng(3)
+    spread = null_setting(0.08, 0.51, LMS_0, SS2) + 0.02 * rng.standard_normal(6)  # ratio 0.56, SD 0.61
+    summary = summarise_settings(0.08, spread, LMS_0, SS2)
+    assert summary["ratio_sd"] > 0.4
+    check = assess_reliability(summary)
+    assert not check["reliable"] and "SD" in check["problems"][0] and check["criterion"]["is_default"]
+    steady = null_setting(0.08, 1.1, LMS_0, SS2) + 0.001 * rng.standard_normal(6)
+    assert assess_reliability(summarise_settings(0.08, steady, LMS_0, SS2))["reliable"]
+    # A lab's own criterion replaces the default; too few settings are named as the problem.
+    strict = reliability_criterion(min_settings=8, max_ratio_sd=0.05)
+    assert not strict["is_default"] and strict != DEFAULT_CRITERION
+    problems = assess_reliability(summarise_settings(0.08, steady, LMS_0, SS2), strict)["problems"]
+    assert any("only 6 settings" in p for p in problems)
+    with pytest.raises(ValueError):
+        reliability_criterion(min_settings=1)
+
+
+def test_an_unreliable_result_needs_a_reason_and_earlier_adjustments_are_kept(client):
+    csrf = {"X-CSRF-Token": client.csrf}
+    session_id = client.post("/api/sessions", headers=csrf, json={"protocol": "flicker_photometry.json",
+                                                                  "display": 1, "participant": "P07"}).get_json()["id"]
+    compiled = client.get(f"/api/sessions/{session_id}").get_json()["compiled"]
+
+    def log(positions, batch):
+        events = [{"seq": 100 * batch + i, "t": 1000.0 * i, "kind": "trial_end", "trial": i, "phase": "respond",
+                   "data": {"response": {"method": "adjustment", "position_index": p, "position": [-0.1 + 0.005 * p],
+                                         "device": compiled["conditions"][0]["response"]["device"][p], "rt_ms": 900}}}
+                  for i, p in enumerate(positions)]
+        client.post(f"/api/sessions/{session_id}/batches", headers=csrf, json={"batch": batch, "events": events})
+
+    log([4, 36, 10, 30, 20, 25], 0)  # settings all over the ladder
+    page = client.get(f"/sessions/{session_id}").text
+    assert "Not reliable by this criterion" in page and "stimlab's default" in page
+    refused = client.post(f"/api/sessions/{session_id}/observer-adjustment", headers=csrf)
+    assert refused.status_code == 400 and refused.get_json()["error"]["field"] == "override_reason"
+    assert client.get("/api/observers/P07").status_code == 404
+    saved = client.post(f"/api/sessions/{session_id}/observer-adjustment", headers=csrf,
+                        json={"override_reason": "pilot, kept for comparison"})
+    assert saved.status_code == 201 and saved.get_json()["override_reason"] == "pilot, kept for comparison"
+    again = client.post(f"/api/sessions/{session_id}/observer-adjustment", headers=csrf,
+                        json={"override_reason": "second copy"})
+    assert again.status_code == 201
+    page = client.get(f"/sessions/{session_id}").text
+    assert page.count("saved despite the criterion") == 2 and page.count("in use (latest)") == 1
+    assert client.get("/api/observers/P07").get_json()["id"] == again.get_json()["id"]

@@ -254,5 +254,6 @@ def test_flicker_photometry_in_the_runner(server, page):
     assert drawn[0] == drawn[1] != drawn[2] == drawn[3]
     csrf = page.locator('meta[name="csrf-token"]').get_attribute("content")
     saved = page.request.post(f"{server.url}/api/sessions/{session_id}/observer-adjustment",
-                              headers={"X-CSRF-Token": csrf})
+                              headers={"X-CSRF-Token": csrf},
+                              data={"override_reason": "two settings: below the reliability criterion"})
     assert saved.status == 201 and saved.json()["n"] == 2

@@ -77,3 +77,40 @@ def test_form_fragment_after_structural_edits(client):
     protocol["stimuli"].append({"name": "extra", "shape": "disc", "size_deg": 1, "colour": {"dkl": [0, 0, 0.1]}})
     html = client.post("/api/protocol-form", json={"protocol": protocol}, headers=headers(client)).get_json()["html"]
     assert 'name="stimuli[2].size_deg"' in html
+
+
+def test_new_from_a_template_then_trash_and_restore_through_the_api(app, client):
+    listed = client.get("/api/paradigms").get_json()["paradigms"]
+    assert len(listed) == 5
+    created = client.post("/api/protocols", headers=headers(client),
+                          json={"paradigm": "simultaneous_contrast_matching", "name": "match_pilot", "title": "Pilot"})
+    assert created.status_code == 201 and created.get_json()["name"] == "match_pilot.json"
+    shown = client.get("/api/protocols/match_pilot.json").get_json()
+    assert shown["protocol"]["about"]["title"] == "Pilot"
+    again = client.post("/api/protocols", headers=headers(client), json={"paradigm": "afterimage_nulling",
+                                                                         "name": "match_pilot"})
+    assert again.status_code == 409 and again.get_json()["error"]["field"] == "new_name"
+    entry = client.delete("/api/protocols/match_pilot.json", headers=headers(client)).get_json()["trash_entry"]
+    assert client.get("/api/protocols/match_pilot.json").status_code == 404
+    assert [t["name"] for t in client.get("/api/protocol-trash").get_json()["trash"]] == ["match_pilot.json"]
+    restored = client.post(f"/api/protocol-trash/{entry}/restore", headers=headers(client), json={})
+    assert restored.get_json()["name"] == "match_pilot.json"
+
+
+def test_the_form_is_drawn_after_an_edit_even_when_it_leaves_the_protocol_invalid(client):
+    protocol = client.get("/api/protocols/afterimage_null.json").get_json()["protocol"]
+    body = client.post("/api/protocol-form", headers=headers(client),
+                       json={"protocol": protocol, "edit": {"op": "remove", "path": "stimuli[1]"}}).get_json()
+    assert len(body["protocol"]["stimuli"]) == 1 and 'name="stimuli[0].size_deg"' in body["html"]
+    assert body["error"]["field"] == "trial[2].stimuli[0]" and "no stimulus called 'test_disc'" in body["error"]["message"]
+    assert "Size (deg)" in body["html"] and ">size_deg<" not in body["html"]
+    shapeless = client.post("/api/protocol-form", headers=headers(client), json={"protocol": [1, 2]})
+    assert shapeless.status_code == 400
+
+
+def test_a_validation_error_reads_as_a_sentence(client):
+    protocol = client.get("/api/protocols/afterimage_null.json").get_json()["protocol"]
+    protocol["trial"][1]["duration_s"] = -1
+    error = client.post("/api/audit", json={"protocol": protocol}, headers=headers(client)).get_json()["error"]
+    assert error["message"] == "Duration (s) of phase 2 (gap) must be 0 or more (it is -1)"
+    assert error["field"] == "trial[1].duration_s"

@@ -27,3 +27,21 @@ export async function send(method, url, body, { runToken = null } = {}) {
 
 export const postJSON = (url, body) => send("POST", url, body);
 export const putJSON = (url, body) => send("PUT", url, body);
+
+// A multipart form (files included) to a JSON API: the page, and the files chosen in it, stay as they are.
+export async function sendForm(url, formData) {
+  let response;
+  try {
+    response = await fetch(url, { method: "POST", body: formData, credentials: "same-origin",
+      headers: { "X-CSRF-Token": token } });
+  } catch {
+    return { ok: false, status: 0, body: { error: { message: "stimlab is not reachable: is the server still running?" } } };
+  }
+  let data;
+  try {
+    data = await response.json();
+  } catch {
+    data = { error: { message: `unexpected answer from the server (HTTP ${response.status})` } };
+  }
+  return { ok: response.ok, status: response.status, body: data };
+}

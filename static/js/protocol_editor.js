@@ -1,6 +1,8 @@
-// The protocol editor: form inputs named by JSON path, a debounced live audit, inline errors, save.
-import { postJSON, putJSON } from "./api.js";
-import { setAt } from "./json_path.js";
+// The protocol editor: form inputs named by JSON path, structural edits made by the server, a debounced live
+// audit, inline errors, save. Unsaved edits are kept in this browser (localStorage) until saved, so neither a
+// reload nor a save refused because the file changed on disk loses them.
+import { postJSON, putJSON, send } from "./api.js";
+import { changes, formatPath, mergeInto, sameValue, setAt } from "./json_path.js";
 
 const editor = document.getElementById("editor");
 const form = document.getElementById("protocol-form");
@@ -9,8 +11,12 @@ const jsonBox = document.getElementById("protocol-json");
 const saveButton = document.getElementById("save");
 const saveStatus = document.getElementById("save-status");
 const displayChoice = document.getElementById("audit-display");
+const conflictBox = document.getElementById("conflict");
+const name = editor.dataset.name;
+const draftKey = `stimlab.protocol-draft.${name}`;
 
 let protocol = JSON.parse(document.getElementById("protocol-data").textContent);
+let baseProtocol = structuredClone(protocol); // the version on disk these edits started from
 let baseSha = editor.dataset.sha256;
 let timer = null;
 let generation = 0;
@@ -25,6 +31,29 @@ function readInput(input) {
   return input.value;
 }
 
+// -- the draft kept in this browser -----------------------------------------------------------------------------
+function keepDraft() {
+  try {
+    localStorage.setItem(draftKey, JSON.stringify({ protocol, base: baseProtocol, base_sha256: baseSha,
+      kept_at: new Date().toISOString() }));
+  } catch { /* storage full or disabled: the page still holds the edits */ }
+}
+
+function dropDraft() {
+  try { localStorage.removeItem(draftKey); } catch { /* nothing kept */ }
+}
+
+function readDraft() {
+  try { return JSON.parse(localStorage.getItem(draftKey) ?? "null"); } catch { return null; }
+}
+
+function changed() {
+  syncJson();
+  keepDraft();
+  saveStatus.textContent = "Unsaved changes (kept in this browser until saved)";
+}
+
+// -- errors ------------------------------------------------------------------------------------------------------
 function clearErrors() {
   for (const field of form.querySelectorAll(".invalid")) {
     field.classList.remove("invalid");
@@ -39,7 +68,7 @@ function showError(error) {
   const field = error.field ?? "";
   const text = error.message ?? "invalid";
   // The input itself, else the closest enclosing part of the form (a fieldset or a vector).
-  let target = form.querySelector(`[name="${CSS.escape(field)}"]`);
+  const target = field ? form.querySelector(`[name="${CSS.escape(field)}"]`) : null;
   let holder = target?.closest(".field");
   if (!holder) {
     let path = field;
@@ -56,10 +85,12 @@ function showError(error) {
   const note = document.createElement("p");
   note.className = "verdict fail";
   note.id = "audit-verdict";
-  note.textContent = field ? `${field}: ${text}` : text;
+  note.textContent = text; // already names the field by its label
+  if (field) note.title = `JSON path: ${field}`;
   panel.append(note);
 }
 
+// -- audit -------------------------------------------------------------------------------------------------------
 async function audit() {
   const mine = ++generation;
   const result = await postJSON("/api/audit", { protocol, display: displayChoice?.value || null });
@@ -81,48 +112,164 @@ function syncJson() {
   jsonBox.value = JSON.stringify(protocol, null, 2);
 }
 
+// The server draws the form for a protocol (after an edit, or for JSON typed in the box) and says what is wrong.
+async function redraw(body) {
+  const result = await postJSON("/api/protocol-form", body);
+  if (!result.ok) {
+    showError(result.body.error ?? {});
+    return false;
+  }
+  const focusPath = document.activeElement?.dataset?.path;
+  protocol = result.body.protocol;
+  form.innerHTML = result.body.html;
+  saveButton.disabled = false;
+  changed();
+  if (result.body.error) showError(result.body.error);
+  else audit();
+  if (focusPath) form.querySelector(`[data-path="${CSS.escape(focusPath)}"]`)?.focus();
+  return true;
+}
+
 form.addEventListener("input", (event) => {
   const input = event.target;
   if (!input.name) return;
   setAt(protocol, input.name, readInput(input));
-  syncJson();
-  saveStatus.textContent = "Unsaved changes";
+  changed();
   scheduleAudit();
 });
 
-document.getElementById("apply-json").addEventListener("click", async () => {
+// Structural edits: add, remove and move stimuli, phases, variables, levels and list entries; add a field.
+form.addEventListener("click", (event) => {
+  const button = event.target.closest("button[data-edit]");
+  if (!button) return;
+  event.preventDefault();
+  const edit = { op: button.dataset.edit, path: button.dataset.path };
+  if (button.dataset.by) edit.by = Number(button.dataset.by);
+  if (button.dataset.key) edit.key = button.dataset.key;
+  const holder = button.parentElement;
+  const kind = holder.querySelector("[data-kind-for]");
+  if (kind) edit.kind = kind.value;
+  const newName = holder.querySelector("[data-name-for]");
+  if (newName) edit.name = newName.value.trim();
+  const field = holder.querySelector("[data-add-field-for]");
+  if (field) edit.key = field.value;
+  redraw({ protocol, edit });
+});
+
+document.getElementById("apply-json").addEventListener("click", () => {
   let parsed;
   try {
     parsed = JSON.parse(jsonBox.value);
   } catch (error) {
-    showError({ field: "", message: `the JSON does not parse: ${error.message}` });
+    showError({ field: "", message: `The JSON does not parse: ${error.message}` });
     return;
   }
-  const result = await postJSON("/api/protocol-form", { protocol: parsed });
-  if (!result.ok) {
-    showError(result.body.error ?? {});
-    return;
-  }
-  protocol = parsed;
-  form.innerHTML = result.body.html;
-  saveButton.disabled = false;
-  saveStatus.textContent = "Unsaved changes";
-  audit();
+  redraw({ protocol: parsed });
 });
+
+// -- save and conflicts -----------------------------------------------------------------------------------------
+function offerDownload() {
+  const link = document.getElementById("download-mine");
+  if (link.href) URL.revokeObjectURL(link.href);
+  link.href = URL.createObjectURL(new Blob([JSON.stringify(protocol, null, 2) + "\n"], { type: "application/json" }));
+}
 
 saveButton.addEventListener("click", async () => {
   saveStatus.textContent = "Saving…";
-  const result = await putJSON(`/api/protocols/${encodeURIComponent(editor.dataset.name)}`,
-    { protocol, base_sha256: baseSha });
+  const result = await putJSON(`/api/protocols/${encodeURIComponent(name)}`, { protocol, base_sha256: baseSha });
   if (result.ok) {
     baseSha = result.body.sha256;
+    baseProtocol = structuredClone(protocol);
+    dropDraft();
+    conflictBox.hidden = true;
+    document.querySelector('#rename-form [name="base_sha256"]').value = baseSha;
     saveStatus.textContent = `Saved at ${new Date().toLocaleTimeString()}`;
-  } else {
-    const error = result.body.error ?? {};
-    saveStatus.textContent = `Not saved: ${error.message ?? "error"}`;
-    if (error.field) showError(error);
+    return;
+  }
+  const error = result.body.error ?? {};
+  keepDraft();
+  if (result.status === 409) {
+    saveStatus.textContent = "Not saved: the file changed on disk (your edits are kept)";
+    offerDownload();
+    conflictBox.hidden = false;
+    document.getElementById("merge-report").textContent = "";
+    return;
+  }
+  saveStatus.textContent = `Not saved: ${error.message ?? "error"}`;
+  if (error.field) showError(error);
+});
+
+function cell(row, text, tag = "td") {
+  const element = document.createElement(tag);
+  element.textContent = text;
+  row.append(element);
+}
+
+const shown = (value) => (value === undefined ? "(none)" : JSON.stringify(value));
+
+document.getElementById("merge").addEventListener("click", async () => {
+  const saved = await send("GET", `/api/protocols/${encodeURIComponent(name)}`);
+  const report = document.getElementById("merge-report");
+  if (!saved.ok || !saved.body.protocol) {
+    report.textContent = saved.body.error?.message ?? saved.body.error ?? "The saved file does not validate; download your version and fix the file.";
+    return;
+  }
+  const mine = changes(baseProtocol, protocol);
+  const { merged, report: rows } = mergeInto(saved.body.protocol, mine);
+  const table = document.createElement("table");
+  table.className = "compact";
+  table.id = "merge-table";
+  const head = table.createTHead().insertRow();
+  for (const title of ["Field", "Yours", "Saved file", "Result"]) cell(head, title, "th");
+  const body = table.createTBody();
+  for (const row of rows) {
+    const line = body.insertRow();
+    cell(line, formatPath(row.path));
+    cell(line, shown(row.mine));
+    cell(line, shown(row.theirs));
+    cell(line, row.status);
+  }
+  report.replaceChildren(table);
+  const note = document.createElement("p");
+  note.textContent = `${rows.length} change(s) of yours applied onto the saved file. Check the form and the audit, then Save.`;
+  report.append(note);
+  baseProtocol = saved.body.protocol;
+  baseSha = saved.body.sha256;
+  document.querySelector('#rename-form [name="base_sha256"]').value = baseSha;
+  await redraw({ protocol: merged });
+  saveStatus.textContent = "Merged, not saved yet";
+});
+
+// Moving the draft with a rename keeps unsaved edits with the file.
+document.getElementById("rename-form").addEventListener("submit", () => {
+  const draft = readDraft();
+  const to = document.getElementById("rename-to").value.trim();
+  if (draft && to) {
+    const target = to.endsWith(".json") ? to : `${to}.json`;
+    try { localStorage.setItem(`stimlab.protocol-draft.${target}`, JSON.stringify(draft)); } catch { /* kept here */ }
   }
 });
+
+// -- a draft from an earlier visit -------------------------------------------------------------------------------
+const draft = readDraft();
+if (draft && !sameValue(draft.protocol, protocol)) {
+  const note = document.getElementById("draft-note");
+  const when = new Date(draft.kept_at).toLocaleString();
+  const stale = draft.base_sha256 !== baseSha;
+  document.getElementById("draft-text").textContent = `Unsaved edits from ${when} are kept in this browser` +
+    (stale ? " (the file has changed on disk since; saving will offer a merge)." : ".");
+  note.hidden = false;
+  document.getElementById("draft-restore").addEventListener("click", async () => {
+    baseProtocol = draft.base ?? baseProtocol;
+    baseSha = draft.base_sha256 ?? baseSha;
+    note.hidden = true;
+    await redraw({ protocol: draft.protocol });
+  });
+  document.getElementById("draft-discard").addEventListener("click", () => {
+    dropDraft();
+    note.hidden = true;
+  });
+}
 
 displayChoice?.addEventListener("change", audit);
 if (displayChoice) audit();

@@ -16,6 +16,7 @@ from ..colorimetry.gamut import scale_limit
 from ..colorimetry.geometry import WCAG_FLASH_AREA_SR
 from ..colorimetry.rods import DEFAULT_MAX_ROD_CONTRAST, MESOPIC_UPPER_CD_M2, NOT_AVAILABLE
 from ..colorimetry.spaces import LMS_to_DKL
+from ..experiment.labels import axis_name as direction_name
 from ..experiment.protocol import CAUTION
 from ..experiment.timecourse import shown_frequency_hz, square_period_frames
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, profile_warnings
@@ -186,10 +187,10 @@ class _RodCheck:
 
 def _response(findings, compiled, response, label):
     where = f"{label} / {response.kind} of {response.target}"
-    positions = response.positions
-    inside = np.array(response.in_gamut)
+    reachable = np.ones(len(response.in_gamut), bool) if response.reachable is None else np.asarray(response.reachable)
+    inside = np.array(response.in_gamut) | ~reachable  # an unreachable position need not be shown
     axes = response.axes
-    low, high = positions[0], positions[-1]
+    limits = response.axis_limits()
     origin_RGB = compiled.model.LMS_to_RGB_linear(
         compiled.background.colour_to_LMS(response.space, response.base))
     for d, axis in enumerate(axes):
@@ -197,7 +198,8 @@ def _response(findings, compiled, response, label):
             compiled.background.colour_to_LMS(response.space, response.base + axis)) - origin_RGB
         top, top_channel = scale_limit(origin_RGB, step_RGB)
         bottom, bottom_channel = scale_limit(origin_RGB, -step_RGB)
-        axis_name = f" along axis {d + 1}" if len(axes) > 1 else ""
+        axis_name = f" along {direction_name(axis.tolist(), response.space)}" if len(axes) > 1 else ""
+        low, high = limits[d]
         for limit, edge, channel, sign in ((high, float(top), top_channel, 1), (low, -float(bottom), bottom_channel, -1)):
             if sign * limit > sign * edge + 1e-9:
                 findings.add("gamut", "fail", where,
@@ -253,7 +255,9 @@ def _prediction(findings, compiled, model, index, response, label):
     axes = response.axes
     position, *_ = np.linalg.lstsq(axes.T, target - response.base, rcond=None)
     off_line = float(np.linalg.norm(response.base + position @ axes - target))
-    low, high = response.positions[0], response.positions[-1]
+    limits = response.axis_limits()
+    low, high = limits[:, 0], limits[:, 1]
+    shown_limits = " and ".join(f"[{a:g}, {b:g}]" for a, b in limits)
     margin = float(np.min(np.r_[position - low, high - position]))
     fits, _ = scale_limit(background.RGB_0, background.model.LMS_to_RGB_linear(LMS) - background.RGB_0)
     where = f"{label} / predicted {what}"
@@ -262,7 +266,7 @@ def _prediction(findings, compiled, model, index, response, label):
     shown = ", ".join(f"{p:+.3f}" for p in position)
     if margin < 0:
         findings.add("prediction", "fail", where, f"von Kries (k={k:g}) predicts the {what} at position {shown}, "
-                     f"outside the limits [{low:g}, {high:g}] by {-margin:.3f}; widen the limits", **values)
+                     f"outside the limits {shown_limits} by {-margin:.3f}; widen the limits", **values)
     elif fits < 1:
         findings.add("prediction", "fail", where, f"the predicted {what} is out of gamut (only ×{float(fits):.3f} "
                      "fits); reduce the adapting or inducing contrast", **values)

@@ -22,7 +22,14 @@ import numpy as np
 from .observers import Observer
 from .spaces import matrix_DKL_directions
 
-__all__ = ["hfp_delta_LMS", "null_setting", "ratio_from_setting", "adjusted_weights", "summarise_settings"]
+__all__ = ["hfp_delta_LMS", "null_setting", "ratio_from_setting", "adjusted_weights", "summarise_settings",
+           "DEFAULT_CRITERION", "reliability_criterion", "assess_reliability"]
+
+DEFAULT_CRITERION = {"min_settings": 4, "max_ratio_sd": 0.40}
+"""stimlab's default reliability criterion for saving a flicker-photometry result: at least 4 settings whose implied
+L/M ratios have a standard deviation of at most 0.40. A default chosen for this software, not a published standard
+(on the demo task, settings within ±2.5 fine steps of each other give an SD near 0.34): several settings from random
+starts are common practice, and a lab should set its own limits."""
 
 
 def _directions(LMS_0, obs: Observer) -> np.ndarray:
@@ -75,9 +82,66 @@ def summarise_settings(amplitude: float, settings, LMS_0, obs: Observer) -> dict
         raise ValueError("flicker photometry needs at least two settings to say how consistent they are")
     mean = float(settings.mean())
     ratio = float(ratio_from_setting(amplitude, mean, LMS_0, obs))
-    ratios = ratio_from_setting(amplitude, settings, LMS_0, obs)
+    # A setting beyond where any observer could null the flicker implies no positive ratio: the spread of the
+    # ratios is then undefined (None), which no reliability criterion accepts.
+    delta = hfp_delta_LMS(amplitude, settings, LMS_0, obs)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratios = -obs.w_M * delta[..., 1] / (obs.w_L * delta[..., 0])
+    valid = np.isfinite(ratios) & (ratios > 0)
     w_L, w_M = adjusted_weights(ratio, LMS_0, obs)
     return {"settings": settings.tolist(), "mean_setting": mean, "sd_setting": float(settings.std(ddof=1)),
             "sem_setting": float(settings.std(ddof=1) / np.sqrt(settings.size)), "ratio": ratio,
-            "ratio_sd": float(np.std(ratios, ddof=1)), "w_L": w_L, "w_M": w_M, "amplitude": amplitude,
+            "ratio_sd": float(np.std(ratios, ddof=1)) if valid.all() else None,
+            "invalid_settings": int((~valid).sum()), "w_L": w_L, "w_M": w_M, "amplitude": amplitude,
             "n": int(settings.size)}
+
+
+def reliability_criterion(min_settings=None, max_ratio_sd=None) -> dict:
+    """A lab's criterion (either value may be None for the default), checked; ``is_default`` says which it is.
+
+    Raises
+    ------
+    ValueError
+        For fewer than 2 settings or a non-positive standard deviation.
+    """
+    criterion = dict(DEFAULT_CRITERION)
+    if min_settings is not None:
+        if int(min_settings) != min_settings or min_settings < 2:
+            raise ValueError("the minimum number of settings must be a whole number of at least 2")
+        criterion["min_settings"] = int(min_settings)
+    if max_ratio_sd is not None:
+        if not np.isfinite(max_ratio_sd) or max_ratio_sd <= 0:
+            raise ValueError("the largest standard deviation of the L/M ratio must be a positive number")
+        criterion["max_ratio_sd"] = float(max_ratio_sd)
+    return criterion | {"is_default": criterion == DEFAULT_CRITERION}
+
+
+def assess_reliability(summary: dict, criterion: dict | None = None) -> dict:
+    """Whether a result of :func:`summarise_settings` is consistent enough to become an observer adjustment.
+
+    Parameters
+    ----------
+    summary
+        From :func:`summarise_settings` (``n``, ``ratio_sd``, ``sd_setting``, ``ratio``).
+    criterion
+        From :func:`reliability_criterion`; the default when None.
+
+    Returns
+    -------
+    dict
+        ``reliable`` (bool), ``problems`` (sentences, empty when reliable), ``criterion``, and the spread shown:
+        ``n``, ``ratio_sd``, ``sd_setting``, ``ratio_cv`` (SD of the ratio over the ratio).
+    """
+    criterion = criterion or reliability_criterion()
+    problems = []
+    if summary["n"] < criterion["min_settings"]:
+        problems.append(f"only {summary['n']} settings; the criterion asks for at least {criterion['min_settings']}")
+    if summary.get("invalid_settings"):
+        problems.append(f"{summary['invalid_settings']} setting(s) imply no positive L/M ratio (beyond any "
+                        "observer's flicker null)")
+    elif not summary["ratio_sd"] <= criterion["max_ratio_sd"]:
+        problems.append(f"the settings imply L/M ratios with an SD of {summary['ratio_sd']:.3f}, above the "
+                        f"criterion's {criterion['max_ratio_sd']:.3f}: the observer's settings disagree")
+    return {"reliable": not problems, "problems": problems, "criterion": criterion, "n": summary["n"],
+            "ratio_sd": summary["ratio_sd"], "sd_setting": summary["sd_setting"],
+            "ratio_cv": summary["ratio_sd"] / summary["ratio"] if summary["ratio_sd"] is not None else None}

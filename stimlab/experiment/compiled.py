@@ -74,6 +74,9 @@ class CompiledResponse:
         The position of every ladder entry, shape (n**d, d).
     RGB
         Linear RGB of every ladder entry, shape (n**d, 3).
+    limits, reachable
+        ``[low, high]`` per direction (shape (d, 2)) and whether each ladder entry lies within its direction's
+        limits (a plane may have a narrower range along one direction than the ladder spans).
     fields
         The remaining JSON fields the runner receives (ladder device levels, start, steps, …).
     """
@@ -90,6 +93,14 @@ class CompiledResponse:
     device: list
     fields: dict = field(default_factory=dict)
     start: Callable[[Any], Any] | None = None
+    limits: np.ndarray | None = None
+    reachable: np.ndarray | None = None
+
+    def axis_limits(self) -> np.ndarray:
+        """``[low, high]`` per direction, shape (d, 2): the protocol's own per-direction limits, or the ladder's."""
+        if self.limits is not None:
+            return np.asarray(self.limits, dtype=float)
+        return np.array([[self.positions[0], self.positions[-1]]] * len(self.axes))
 
     def to_json(self) -> dict:
         return {"kind": self.kind, "target": self.target, "space": self.space, "axes": self.axes.tolist(),

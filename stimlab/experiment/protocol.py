@@ -17,6 +17,7 @@ import jsonschema
 from ..colorimetry.observers import OBSERVERS
 from ..errors import InputError
 from ..jsonio import check_value, loads
+from .labels import explain_schema_error, field_label, plain_words
 
 __all__ = ["load_protocol", "parse_protocol", "validate_protocol", "protocol_schema", "json_path",
            "protocol_sha256", "CAUTION"]
@@ -52,29 +53,6 @@ def _deepest(error):
     return error
 
 
-def _explain(error) -> str:
-    value = error.instance
-    shown = json.dumps(value) if not isinstance(value, (dict, list)) or len(json.dumps(value)) < 60 else "…"
-    if error.validator == "enum":
-        return f"{shown} is not allowed; use one of: {', '.join(json.dumps(v) for v in error.validator_value)}"
-    if error.validator == "const":
-        return f"{shown} is not allowed; it must be {json.dumps(error.validator_value)}"
-    if error.validator == "additionalProperties":
-        allowed = sorted(error.schema.get("properties", {}))
-        extra = sorted(set(value) - set(allowed)) if isinstance(value, dict) else []
-        if allowed:
-            return f"unexpected field(s) {', '.join(extra)}; allowed: {', '.join(allowed)}"
-        return f"unexpected field(s) {', '.join(extra)}"
-    if error.validator == "type":
-        return f"{shown} is not a {error.validator_value}"
-    if error.validator == "pattern":
-        hint = "a '$variable' reference" if "\\$" in error.validator_value else f"text matching {error.validator_value}"
-        return f"{shown} is not allowed here; expected a number or {hint}"
-    if error.validator in ("minProperties", "maxProperties") and "cone_contrast" in error.schema.get("properties", {}):
-        return f"give exactly one colour space ({', '.join(sorted(error.schema['properties']))})"
-    return error.message
-
-
 def validate_protocol(data, name: str = "protocol") -> dict:
     """Check a protocol against the schema and its own references; return it unchanged when it is valid.
 
@@ -87,8 +65,14 @@ def validate_protocol(data, name: str = "protocol") -> dict:
     errors = sorted(_validator().iter_errors(data), key=lambda e: (list(map(str, e.absolute_path)), e.message))
     if errors:
         error = _deepest(errors[0])
-        raise InputError(_explain(error), file=name, field=json_path(error.absolute_path))
-    _check_references(data, name)
+        raise InputError(explain_schema_error(error, data), file=name, field=json_path(error.absolute_path))
+    try:
+        _check_references(data, name)
+    except InputError as error:  # the same words as the form: the field's label, then the problem
+        if not error.field or error.field == "(top level)":
+            raise
+        raise InputError(f"{field_label(error.field, data)}: {plain_words(error.message)}", file=error.file,
+                         field=error.field) from None
     return data
 
 
@@ -240,7 +224,14 @@ def _check_response(response: dict, names: dict, variables: dict, fail, *path) -
                  "condition", *path, "axis")
     if method == "adjustment" and ("axis" in response) == ("plane" in response):
         fail("an adjustment moves along one axis or in one plane: give exactly one of axis, plane", *path)
-    if "limits" in response and response["limits"][0] >= response["limits"][1]:
+    limits = response.get("limits")
+    if limits and isinstance(limits[0], list):
+        if method != "adjustment" or "plane" not in response:
+            fail("limits per direction apply to an adjustment in a plane; give one [low, high] here", *path, "limits")
+        for k, pair in enumerate(limits):
+            if pair[0] >= pair[1]:
+                fail("limits must be [low, high] with low < high", *path, "limits", k)
+    elif limits and limits[0] >= limits[1]:
         fail("limits must be [low, high] with low < high", *path, "limits")
     if "step_coarse" in response and response["step_coarse"] < response.get("step_fine", 0):
         fail("step_coarse must not be smaller than step_fine", *path, "step_coarse")

@@ -47,9 +47,13 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
         response = {**response, "axis": axis}
     space = response["space"]
     target = stimuli[response["target"]].colour
-    low, high = response["limits"]
     if response["method"] == "staircase":
         return _staircase(response, background, space, where)
+    limits = response["limits"]
+    # Per-direction limits (a plane only): the ladder spans them all, and positions outside a direction's own
+    # limits are unreachable (no device levels), so a runner stops there as at the gamut's edge.
+    per_axis = [list(map(float, pair)) for pair in limits] if isinstance(limits[0], list) else None
+    low, high = (min(p[0] for p in per_axis), max(p[1] for p in per_axis)) if per_axis else map(float, limits)
     axes = np.array([response["axis"]] if "axis" in response else response["plane"], dtype=float)
     if not np.all(np.any(axes != 0, axis=1)):
         raise InputError("an adjustment axis must not be all zeros", field=f"{where}.axis")
@@ -67,6 +71,11 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
     coordinates = base + grid @ axes
     LMS = background.colour_to_LMS(space, coordinates)
     device, inside, RGB = _table(background, LMS)
+    axis_limits = per_axis or [[float(low), float(high)]] * len(axes)
+    reachable = np.all([(grid[:, d] >= lo - 1e-9) & (grid[:, d] <= hi + 1e-9)
+                        for d, (lo, hi) in enumerate(axis_limits)], axis=0)
+    if per_axis:
+        device = [d if ok else None for d, ok in zip(device, reachable)]
     course = stimuli[response["target"]].time_course
     opposite = None
     if course["kind"] == "square" and course.get("mode") != "on_off":
@@ -74,7 +83,7 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
         opposite, opposite_inside = RGB_linear_to_device_or_none(2 * background.RGB_0 - RGB,
                                                                  background.model.level_outputs)
         inside = inside & opposite_inside
-        device = [d if ok else None for d, ok in zip(device, inside)]
+        device = [d if ok and reach else None for d, ok, reach in zip(device, inside, reachable)]
     origin = background.colour_to_LMS(space, base)
     axis_LMS = np.array([background.colour_to_LMS(space, base + a) - origin for a in axes])
     start = np.atleast_1d(np.asarray(response.get("start", 0.0), dtype=float))
@@ -83,20 +92,24 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
     jitter = float(response.get("start_jitter", 0.0))
     coarse = int(round(float(response.get("step_coarse", 10 * fine)) / fine))
 
-    last = positions.size - 1
+    # Each direction's first and last reachable position index.
+    bounds = [(int(np.ceil((lo - low) / fine - 1e-9)), int(np.floor((hi - low) / fine + 1e-9)))
+              for lo, hi in axis_limits]
     nominal = [float(s) for s in start]
 
     def start_index(rng):  # once per trial: plain Python, no array overhead
         values = [s + rng.uniform(-jitter, jitter) if jitter else s for s in nominal]
-        index = [min(max(int(round((v - low) / fine)), 0), last) for v in values]
+        index = [min(max(int(round((v - low) / fine)), first), last) for v, (first, last) in zip(values, bounds)]
         return index[0] if len(index) == 1 else index
 
     return CompiledResponse(
         kind="adjustment", target=response["target"], space=space, positions=positions, axes=axes, base=base,
         grid=grid, RGB=RGB, in_gamut=inside.tolist(), device=device, start=start_index,
-        fields={"positions": {"low": low, "step": fine, "count": int(positions.size), "dimensions": len(axes)},
+        limits=np.array(axis_limits), reachable=reachable,
+        fields={"positions": {"low": float(low), "step": fine, "count": int(positions.size), "dimensions": len(axes)},
                 "coarse_step_positions": coarse, "device_opposite": opposite, "origin_lms": origin.tolist(),
-                "axis_lms": axis_LMS.tolist(), "start_nominal": start.tolist()})
+                "axis_lms": axis_LMS.tolist(), "start_nominal": start.tolist(),
+                **({"limits_per_axis": per_axis, "reachable": reachable.tolist()} if per_axis else {})})
 
 
 def _staircase(response: dict, background: Background, space: str, where: str) -> CompiledResponse:

@@ -124,7 +124,8 @@ def install_demo(store) -> list[str]:
     shipped = asset_folder("protocols")
     for path in sorted(shipped.glob("*.json")):
         target = store.protocols / path.name
-        if not target.exists():
+        deleted = any((store.protocols / ".trash").glob(f"*--{path.name}"))  # the lab deleted it: leave it there
+        if not target.exists() and not deleted:
             shutil.copyfile(path, target)
             added.append(path.name)
     return added

@@ -147,6 +147,14 @@ MIGRATIONS = [
     );
     """,
     lambda db: _sessions_end_early_and_dry_run(db),
+    # Lab-wide choices made in the app (the default display, criteria), one JSON value per key.
+    """
+    CREATE TABLE settings (
+        key TEXT PRIMARY KEY,
+        value TEXT NOT NULL,
+        updated_at TEXT NOT NULL
+    ) WITHOUT ROWID;
+    """,
 ]
 
 
@@ -300,6 +308,18 @@ class Store:
                 "created_at": row["created_at"], "archived_at": row["archived_at"],
                 "profile": loads(row["profile"], field=f"displays[{row['id']}].profile")}
 
+    # -- settings -----------------------------------------------------------------------------------------------
+    @staticmethod
+    def setting(db, key: str, default=None):
+        """A stored lab setting (JSON value), or ``default`` when it was never set."""
+        row = db.execute("SELECT value FROM settings WHERE key = ?", (key,)).fetchone()
+        return json.loads(row["value"]) if row else default
+
+    @staticmethod
+    def set_setting(db, key: str, value) -> None:
+        db.execute("INSERT INTO settings (key, value, updated_at) VALUES (?, ?, ?) ON CONFLICT (key) DO UPDATE "
+                   "SET value = excluded.value, updated_at = excluded.updated_at", (key, json.dumps(value), _now()))
+
     # -- protocols ----------------------------------------------------------------------------------------------
     def protocol_names(self) -> list[str]:
         return sorted(p.name for p in self.protocols.glob("*.json"))
@@ -330,8 +350,8 @@ class Store:
         if path.exists():
             current = text_sha256(path.read_text(encoding="utf-8"))
             if base_sha256 != current:
-                raise ConflictError("the protocol file changed on disk since you opened it; reload it (your edits are "
-                                    "still in this page) and apply them again", file=name)
+                raise ConflictError("the protocol file changed on disk since you opened it; your edits are kept: "
+                                    "merge them into the saved file or download them", file=name)
         check_value(protocol, file=name)  # before any file is opened: a lone surrogate must not leave a stub
         text = dumps(protocol, indent=2, ensure_ascii=False) + "\n"
         parse_protocol(text, name)

@@ -147,7 +147,10 @@ def photometry_summary(session: dict, rows: list[dict]) -> dict | None:
                 if r.get("response_position") is not None and not r.get("practice")]
     if len(settings) < 2:
         return {"settings": settings, "error": "at least two settings are needed"}
-    return summarise_settings(amplitude, settings, LMS_0, obs) | {"standard_observer": obs.key}
+    try:
+        return summarise_settings(amplitude, settings, LMS_0, obs) | {"standard_observer": obs.key}
+    except ValueError as error:  # the mean setting implies no positive L/M ratio
+        return {"settings": settings, "error": str(error)}
 
 
 def session_summary(db, session: dict) -> dict:

@@ -81,13 +81,14 @@ def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool
         response.headers.extend((name, value) for name, value in SECURITY_HEADERS if name.lower() not in present)
         return response
 
-    from . import calibrations, displays, protocols, runs, sessions
+    from . import adjustments, calibrations, displays, protocols, runs, sessions
 
     app.register_blueprint(calibrations.blueprint)
     app.register_blueprint(runs.blueprint)
     app.register_blueprint(displays.blueprint)
     app.register_blueprint(protocols.blueprint)
     app.register_blueprint(sessions.blueprint)
+    app.register_blueprint(adjustments.blueprint)
 
     @app.get("/")
     def home():

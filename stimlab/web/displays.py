@@ -113,7 +113,9 @@ def _summarised(displays: list[dict]) -> list[dict]:
 
 @blueprint.get("/displays")
 def index():
-    return render_template("displays.html", displays=_summarised(current_store().displays(g.db)))
+    return render_template("displays.html", displays=_summarised(current_store().displays(g.db)),
+                           default_id=chosen_default_id(),
+                           default_chosen=current_store().setting(g.db, DEFAULT_DISPLAY) is not None)
 
 
 @blueprint.get("/displays/new")
@@ -143,7 +145,7 @@ def show(display_id: int):
                                       ("S", "−", 0, background.DKL_limits[2, 0]))]
     return render_template("display.html", display=display, summary=display_summary(profile),
                            transfer=transfer_plot(profile), plane=dkl_plane_plot(background, axes),
-                           mb=macleod_boynton_plot(model))
+                           mb=macleod_boynton_plot(model), is_default=display["id"] == chosen_default_id())
 
 
 # -- API ------------------------------------------------------------------------------------------------------
@@ -192,8 +194,60 @@ def api_create():
 
 
 def default_display_id(requested=None) -> int | None:
-    """The display to audit against: the one asked for, else the most recently added."""
+    """The display to audit against: the one asked for, else the lab's default (a stored setting), else the first
+    display added. Adding a display never changes it."""
     if requested not in (None, ""):
         return _get(whole_number(requested, "display", minimum=1))["id"]
-    displays = current_store().displays(g.db)
-    return displays[0]["id"] if displays else None
+    return chosen_default_id()
+
+
+DEFAULT_DISPLAY = "default_display"
+
+
+def chosen_default_id() -> int | None:
+    """The lab's chosen default display, else the first one added; never an archived one."""
+    chosen = current_store().setting(g.db, DEFAULT_DISPLAY)
+    if chosen is not None and g.db.execute("SELECT 1 FROM displays WHERE id = ? AND archived_at IS NULL",
+                                           (chosen,)).fetchone():
+        return chosen
+    row = g.db.execute("SELECT MIN(id) FROM displays WHERE archived_at IS NULL").fetchone()
+    return row[0]
+
+
+def _set_default(display_id: int) -> int:
+    display_id = _get(display_id)["id"]
+    current_store().set_setting(g.db, DEFAULT_DISPLAY, display_id)
+    return display_id
+
+
+@blueprint.post("/displays/<int:display_id>/default")
+def make_default(display_id: int):
+    _set_default(display_id)
+    back = request.form.get("next") or ""
+    return redirect(back if back.startswith("/displays") else url_for("displays.index"), 303)
+
+
+@blueprint.put("/api/settings/default-display")
+def api_set_default():
+    body = request.get_json(silent=True)
+    if not isinstance(body, dict):
+        raise WebError("send {\"display\": <display id>}", field="display")
+    return {"default_display": _set_default(whole_number(body.get("display"), "display", minimum=1))}
+
+
+@blueprint.get("/api/settings/default-display")
+def api_default():
+    return {"default_display": chosen_default_id(),
+            "chosen": current_store().setting(g.db, DEFAULT_DISPLAY) is not None}
+
+
+@blueprint.get("/displays/<int:display_id>/profile.json")
+def download(display_id: int):
+    import json
+
+    from flask import Response
+
+    display = _get(display_id)
+    slug = "".join(c if c.isalnum() or c in "-_" else "_" for c in display["name"]).strip("_") or "display"
+    return Response(json.dumps(display["profile"], indent=1, ensure_ascii=False) + "\n", mimetype="application/json",
+                    headers={"Content-Disposition": f'attachment; filename="{slug}_v{display["version"]}.json"'})

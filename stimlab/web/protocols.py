@@ -2,22 +2,38 @@
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
-from flask import Blueprint, current_app, g, render_template, request
+from flask import Blueprint, current_app, g, redirect, render_template, request, url_for
 
 from ..audit.preflight import audit_protocol
-from ..errors import InputError
+from ..errors import ConflictError, InputError
 from ..experiment.compile import compile_protocol
+from ..experiment.edits import apply_edit, optional_fields
+from ..experiment.labels import short_label
+from ..experiment.paradigms import paradigm_protocol, paradigms
 from ..experiment.protocol import CAUTION, protocol_sha256, validate_protocol
+from ..sessions import protocol_files
 from ..sessions.observers import observer_for_protocol
 from ..sessions.store import safe_protocol_name, text_sha256
 from . import current_store
-from .displays import _get, default_display_id
+from .displays import _get, chosen_default_id, default_display_id
 from .errors import NotFound, WebError
 from .plots import dkl_plane_plot, frame_preview
 
 blueprint = Blueprint("protocols", __name__)
 AUDIT_CACHE_BYTES = 64 * 1024 * 1024  # compiled protocols kept for the live audit, at most
+
+
+@blueprint.app_template_global()
+def bare(path: str) -> str:
+    """A JSON path without its indices, as the form template matches fields: trial[2].stimuli[0] → trial.stimuli."""
+    return re.sub(r"\[\d+\]", "", path)
+
+
+blueprint.add_app_template_global(short_label, "short_label")
+blueprint.add_app_template_global(optional_fields, "optional_fields")
 
 
 def _read(name: str):
@@ -65,10 +81,9 @@ def plane_for(compiled) -> dict:
     for condition, response in zip(compiled.data["conditions"], compiled.responses):
         if response is None or response.space != "dkl":
             continue
-        positions = response.positions
-        for axis in response.axes:
+        for axis, (low, high) in zip(response.axes, response.axis_limits()):
             ends = [background.LMS_to_space("dkl", background.colour_to_LMS("dkl", response.base + p * axis))
-                    for p in (positions[0], positions[-1])]
+                    for p in (low, high)]
             segments.append({"label": f"{response.kind} of {response.target} ({condition['label']})",
                              "from": (float(ends[0][1]), float(ends[0][2])), "to": (float(ends[1][1]),
                                                                                    float(ends[1][2])),
@@ -88,12 +103,75 @@ def _status(name: str, display_id):
     return entry
 
 
-@blueprint.get("/protocols")
-def index():
+def _index_page(error=None, status=200):
     display_id = default_display_id(request.args.get("display"))
     names = current_store().protocol_names()
     return render_template("protocols.html", protocols=[_status(n, display_id) for n in names],
-                           displays=current_store().displays(g.db), display_id=display_id)
+                           displays=current_store().displays(g.db), display_id=display_id, paradigms=paradigms(),
+                           trash=protocol_files.trash_entries(current_store()), error=error,
+                           form=request.form if request.method == "POST" else {},
+                           deleted=request.args.get("deleted")), status
+
+
+@blueprint.get("/protocols")
+def index():
+    return _index_page()
+
+
+# -- files: new, duplicate, rename, delete, restore (forms, then the same as the API) -------------------------
+def _new_name(body, field="new_name") -> str:
+    name = (body.get(field) or "").strip()
+    if not name:
+        raise InputError("give the new file name, e.g. afterimage_null_pilot.json", field=field)
+    return safe_protocol_name(name)
+
+
+def create_from(body) -> str:
+    """A new protocol file from a paradigm template (``paradigm``) or a given protocol (``protocol``)."""
+    name = _new_name(body, "name")
+    if body.get("protocol") is not None:
+        protocol = validate_protocol(body["protocol"], name)
+    else:
+        if not body.get("paradigm"):
+            raise InputError("choose a paradigm template to start from", field="paradigm")
+        protocol = paradigm_protocol(body["paradigm"], (body.get("title") or "").strip() or None)
+    return protocol_files.create_protocol(current_store(), name, protocol)
+
+
+def _form_action(action):
+    try:
+        return redirect(action(), 303)
+    except InputError as error:
+        return _index_page(error, 409 if isinstance(error, ConflictError) else 400)
+
+
+@blueprint.post("/protocols/new")
+def create():
+    return _form_action(lambda: url_for("protocols.edit", name=create_from(request.form)))
+
+
+@blueprint.post("/protocols/<name>/duplicate")
+def duplicate(name: str):
+    return _form_action(lambda: url_for("protocols.edit", name=protocol_files.duplicate_protocol(
+        current_store(), name, _new_name(request.form))))
+
+
+@blueprint.post("/protocols/<name>/rename")
+def rename(name: str):
+    return _form_action(lambda: url_for("protocols.edit", name=protocol_files.rename_protocol(
+        current_store(), name, _new_name(request.form), request.form.get("base_sha256") or None)))
+
+
+@blueprint.post("/protocols/<name>/delete")
+def delete(name: str):
+    return _form_action(lambda: url_for("protocols.index",
+                                        deleted=protocol_files.delete_protocol(current_store(), name)))
+
+
+@blueprint.post("/protocols/trash/<entry>/restore")
+def restore(entry: str):
+    return _form_action(lambda: url_for("protocols.edit", name=protocol_files.restore_protocol(
+        current_store(), entry, request.form.get("new_name") or None)))
 
 
 @blueprint.get("/protocols/<name>")
@@ -103,7 +181,7 @@ def edit(name: str):
     display_id = default_display_id(request.args.get("display"))
     return render_template("protocol_edit.html", name=name, text=text, protocol=protocol, error=error,
                            sha256=text_sha256(text), displays=current_store().displays(g.db), display_id=display_id,
-                           caution=CAUTION)
+                           default_id=chosen_default_id(), caution=CAUTION)
 
 
 def audit_fragment(protocol: dict, display_id: int) -> dict:
@@ -115,6 +193,14 @@ def audit_fragment(protocol: dict, display_id: int) -> dict:
 
 
 # -- API ------------------------------------------------------------------------------------------------------
+def _validated(protocol, name: str) -> dict:
+    """The protocol, or a 400 whose message is the labelled sentence alone (the field goes in ``field``)."""
+    try:
+        return validate_protocol(protocol, name)
+    except InputError as error:
+        raise WebError(error.message, "Invalid input", 400, field=error.field, file=error.file) from None
+
+
 def _body() -> dict:
     body = request.get_json(silent=True)
     if not isinstance(body, dict):
@@ -134,6 +220,45 @@ def api_index():
     return {"display_id": display_id, "protocols": result}
 
 
+@blueprint.get("/api/paradigms")
+def api_paradigms():
+    return {"paradigms": paradigms()}
+
+
+@blueprint.post("/api/protocols")
+def api_create():
+    name = create_from(_body())
+    return {"name": name, "saved": True}, 201
+
+
+@blueprint.post("/api/protocols/<name>/duplicate")
+def api_duplicate(name: str):
+    return {"name": protocol_files.duplicate_protocol(current_store(), name, _new_name(_body()))}, 201
+
+
+@blueprint.post("/api/protocols/<name>/rename")
+def api_rename(name: str):
+    body = _body()
+    return {"name": protocol_files.rename_protocol(current_store(), name, _new_name(body),
+                                                   body.get("base_sha256"))}
+
+
+@blueprint.delete("/api/protocols/<name>")
+def api_delete(name: str):
+    return {"trash_entry": protocol_files.delete_protocol(current_store(), name)}
+
+
+@blueprint.get("/api/protocol-trash")
+def api_trash():
+    return {"trash": protocol_files.trash_entries(current_store())}
+
+
+@blueprint.post("/api/protocol-trash/<entry>/restore")
+def api_restore(entry: str):
+    body = request.get_json(silent=True) or {}
+    return {"name": protocol_files.restore_protocol(current_store(), entry, body.get("new_name"))}
+
+
 @blueprint.get("/api/protocols/<name>")
 def api_show(name: str):
     text, protocol, error = _read(safe_protocol_name(name))
@@ -145,7 +270,7 @@ def api_show(name: str):
 @blueprint.put("/api/protocols/<name>")
 def api_save(name: str):
     body = _body()
-    protocol = validate_protocol(body.get("protocol"), safe_protocol_name(name))
+    protocol = _validated(body.get("protocol"), safe_protocol_name(name))
     sha = current_store().save_protocol(name, protocol, body.get("base_sha256"))
     return {"name": safe_protocol_name(name), "sha256": sha, "saved": True}
 
@@ -153,7 +278,7 @@ def api_save(name: str):
 @blueprint.post("/api/audit")
 def api_audit():
     body = _body()
-    protocol = validate_protocol(body.get("protocol"), "protocol")
+    protocol = _validated(body.get("protocol"), "protocol")
     display_id = default_display_id(body.get("display"))
     if display_id is None:
         raise WebError("add a display first: the audit needs a calibrated display", field="display")
@@ -165,6 +290,23 @@ def api_audit():
 
 @blueprint.post("/api/protocol-form")
 def api_form():
-    """The editor's form for a protocol (after structural edits in its JSON)."""
-    protocol = validate_protocol(_body().get("protocol"), "protocol")
-    return {"html": render_template("_protocol_form.html", protocol=protocol)}
+    """The editor's form for a protocol, after a structural edit (``edit``, see :func:`apply_edit`) or after
+    changes in its JSON; the form is drawn even when the protocol does not validate, with the first problem."""
+    body = _body()
+    protocol = body.get("protocol")
+    if not isinstance(protocol, dict):
+        raise WebError("the protocol must be a JSON object with about, background, stimuli, trial and conditions",
+                       field="protocol")
+    if body.get("edit") is not None:
+        protocol = apply_edit(protocol, body["edit"])
+    error = None
+    try:
+        validate_protocol(protocol, "protocol")
+    except InputError as failure:
+        error = {"message": failure.message, "field": failure.field}
+    try:
+        html = render_template("_protocol_form.html", protocol=protocol)
+    except (TypeError, AttributeError, KeyError):
+        raise WebError("this JSON does not have the shape of a protocol (about, background, stimuli, trial, "
+                       "conditions); fix it in the JSON box", field="protocol") from None
+    return {"protocol": protocol, "html": html, "error": error}

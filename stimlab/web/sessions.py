@@ -15,6 +15,7 @@ from ..sessions.store import safe_protocol_name
 from ..sessions.study import study_summary
 from ..sessions.summary import session_summary
 from . import current_store
+from .adjustments import check_before_saving, photometry_context
 from .errors import NotFound, WebError
 
 blueprint = Blueprint("sessions", __name__)
@@ -51,17 +52,18 @@ def api_index():
 def save_adjustment(session_id: int):
     from flask import redirect, url_for
 
-    _store_adjustment(session_id)
+    _store_adjustment(session_id, request.form.get("override_reason"))
     return redirect(url_for("sessions.show", session_id=session_id), 303)
 
 
 @blueprint.post("/api/sessions/<int:session_id>/observer-adjustment")
 def api_save_adjustment(session_id: int):
-    adjustment_id, summary = _store_adjustment(session_id)
+    body = request.get_json(silent=True) or {}
+    adjustment_id, summary = _store_adjustment(session_id, body.get("override_reason"))
     return {"id": adjustment_id, **summary}, 201
 
 
-def _store_adjustment(session_id: int):
+def _store_adjustment(session_id: int, override_reason: str | None = None):
     session = session_or_404(session_id)
     if session.get("dry_run"):
         raise WebError("this session is a dry run: it is left out of analysis and cannot set an observer adjustment",
@@ -71,6 +73,7 @@ def _store_adjustment(session_id: int):
         raise WebError("this session is not a flicker photometry task", field="session")
     if "error" in summary:
         raise WebError(f"cannot estimate the observer's weights: {summary['error']}", field="session")
+    summary = check_before_saving(summary, override_reason)  # refuses an unreliable result without a reason
     adjustment_id = current_store().add_adjustment(g.db, session["participant"], summary["standard_observer"],
                                                    summary, session_id, session["display_id"])
     return adjustment_id, summary
@@ -94,7 +97,8 @@ def show(session_id: int):
                            summary=summary["conditions"], model=summary["model"], photometry=summary["photometry"],
                            saved_adjustment=saved, display=display,
                            progress=progress(g.db, session_id), formats=SESSION_FORMATS,
-                           figures=list(session_specs(summary)))
+                           figures=list(session_specs(summary)),
+                           **photometry_context(session, summary["photometry"]))
 
 
 @blueprint.get("/sessions/<int:session_id>/figures/<figure>.<fmt>")

@@ -1,0 +1,55 @@
+"""Paradigm templates: complete, valid protocols for the common adaptation experiments, to start a new one from.
+
+Each template is a JSON file in ``stimlab/data/paradigms/``: ``{"paradigm": {"title", "summary"}, "protocol": {…}}``.
+Every template validates and passes the audit on the demo display (``tests/test_paradigms.py``).
+"""
+
+from __future__ import annotations
+
+import copy
+import json
+import secrets
+from functools import lru_cache
+from importlib import resources
+
+from ..errors import NotFoundError
+from .protocol import validate_protocol
+
+__all__ = ["paradigms", "paradigm_protocol"]
+
+
+@lru_cache(maxsize=1)
+def _templates() -> dict[str, dict]:
+    folder = resources.files("stimlab.data").joinpath("paradigms")
+    found = {}
+    for entry in sorted(folder.iterdir(), key=lambda e: e.name):
+        if entry.name.endswith(".json"):
+            key = entry.name[:-5]
+            data = json.loads(entry.read_text("utf-8"))
+            validate_protocol(data["protocol"], f"paradigms/{entry.name}")
+            found[key] = data
+    return found
+
+
+def paradigms() -> list[dict]:
+    """The templates as ``{"key", "title", "summary"}``, in file-name order."""
+    return [{"key": key, **data["paradigm"]} for key, data in _templates().items()]
+
+
+def paradigm_protocol(key: str, title: str | None = None, seed: int | None = None) -> dict:
+    """A fresh protocol from template ``key``, with its own title and a new random seed (recorded in the file).
+
+    Raises
+    ------
+    NotFoundError
+        For an unknown template.
+    """
+    data = _templates().get(key)
+    if data is None:
+        raise NotFoundError(f"there is no paradigm template {key!r}; choose one of: {', '.join(_templates())}",
+                            field="paradigm")
+    protocol = copy.deepcopy(data["protocol"])
+    if title:
+        protocol["about"]["title"] = title
+    protocol["conditions"]["seed"] = seed if seed is not None else secrets.randbelow(1_000_000)
+    return protocol
