@@ -13,6 +13,7 @@ from ..colorimetry.adaptation import induced_match_cone_contrast, null_cone_cont
 from ..colorimetry.device import device_to_RGB_linear
 from ..colorimetry.display import CHANNELS
 from ..colorimetry.gamut import scale_limit
+from ..errors import InputError
 from ..experiment.protocol import CAUTION
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, profile_warnings
 from .photosensitivity import analyse_condition
@@ -61,7 +62,12 @@ def audit_protocol(compiled, protocol: dict, profile: dict, *, max_age_days: int
         if response is not None:
             _response(findings, compiled, response, label)
         if "adaptation_model" in protocol and response is not None and response["kind"] == "adjustment":
-            _prediction(findings, compiled, protocol["adaptation_model"], index, response, label)
+            try:
+                _prediction(findings, compiled, protocol["adaptation_model"], index, response, label)
+            except ValueError as error:  # a prediction outside what cone excitations allow
+                if isinstance(error, InputError):
+                    raise
+                raise InputError(f"{label}: {error}", field="adaptation_model") from None
     _distinct_conditions(findings, compiled)
     _timing(findings, compiled, protocol)
     flicker = _photosensitivity(findings, compiled, protocol)
