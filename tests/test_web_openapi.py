@@ -50,7 +50,8 @@ def test_the_document_describes_every_api_route(fuzzed_app):
 @pytest.mark.parametrize("method,path", OPERATIONS, ids=[f"{m} {p}" for m, p in OPERATIONS])
 def test_no_route_answers_500_and_every_error_has_the_one_shape(api_schema, fuzzed_app, method, path):
     # Positive and negative data both: schemathesis also sends bodies and paths that break the document.
-    strategy = api_schema[path][method].as_strategy()
+    operation = api_schema[path][method]
+    strategy = operation.as_strategy() | operation.as_strategy(schemathesis.GenerationMode.NEGATIVE)
 
     @settings(max_examples=EXAMPLES, deadline=None, derandomize=not os.environ.get("STIMLAB_FUZZ_EXAMPLES"),
               suppress_health_check=list(HealthCheck), database=None)
