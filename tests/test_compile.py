@@ -163,7 +163,7 @@ def test_a_plane_adjustment_takes_limits_per_direction(demo, protocol_named):
     # L−M index 0 (−0.3) is beyond its limit; S index 0 (−0.3) is within its own.
     assert grid[0, 30] is None and grid[30, 0] is not None and grid[20, 0] is not None
     for _ in range(20):
-        first, second = compiled.responses[0]["_start"](np.random.default_rng(_))
+        first, second = compiled.responses[0].start(np.random.default_rng(_))
         assert 20 <= first <= 40 and 0 <= second <= 60
     report = audit_protocol(compiled, protocol, demo)
     assert not [f for f in report["findings"] if f["kind"] == "gamut" and "positions are out of gamut" in f["message"]]

@@ -39,7 +39,13 @@ def test_serve_prints_the_access_address_when_bound_beyond_loopback(tmp_path, mo
 def running(tmp_path):
     app = create_app(tmp_path / "data")
     server = make_server(app, "127.0.0.1", 0)
-    thread = threading.Thread(target=server.run, daemon=True)
+    def run():
+        try:
+            server.run()
+        except OSError:  # the listening socket closed under the loop at the end of the test
+            pass
+
+    thread = threading.Thread(target=run, daemon=True)
     thread.start()
     yield app, f"http://127.0.0.1:{server.effective_port}"
     server.close()

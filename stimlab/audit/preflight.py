@@ -16,6 +16,7 @@ from ..colorimetry.gamut import scale_limit
 from ..colorimetry.geometry import WCAG_FLASH_AREA_SR
 from ..colorimetry.rods import DEFAULT_MAX_ROD_CONTRAST, MESOPIC_UPPER_CD_M2, NOT_AVAILABLE
 from ..colorimetry.spaces import LMS_to_DKL
+from ..errors import InputError
 from ..experiment.labels import axis_name as direction_name
 from ..experiment.protocol import CAUTION
 from ..experiment.timecourse import shown_frequency_hz, square_period_frames
@@ -70,7 +71,12 @@ def audit_protocol(compiled, protocol: dict, profile: dict, *, max_age_days: int
         if response is not None:
             _response(findings, compiled, response, label)
         if "adaptation_model" in protocol and response is not None and response.kind == "adjustment":
-            _prediction(findings, compiled, protocol["adaptation_model"], index, response, label)
+            try:
+                _prediction(findings, compiled, protocol["adaptation_model"], index, response, label)
+            except ValueError as error:  # a prediction outside what cone excitations allow
+                if isinstance(error, InputError):
+                    raise
+                raise InputError(f"{label}: {error}", field="adaptation_model") from None
     _distinct_conditions(findings, compiled)
     _timing(findings, compiled, protocol)
     flicker = _photosensitivity(findings, compiled, protocol)

@@ -239,13 +239,23 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
                                      time_course=_time_course(stimulus, refresh), source=stimulus)
             for key in ("colour", "second_colour"):
                 if key in stimulus:
-                    LMS = _colour_to_LMS(stimulus[key], background, values, json_path(["stimuli", i, key]))
-                    setattr(entry, key, _compile_colour(background, LMS, stimulus))
+                    try:  # a colour no display can show (cone contrast at or below −1, overflow) is bad input
+                        LMS = _colour_to_LMS(stimulus[key], background, values, json_path(["stimuli", i, key]))
+                        setattr(entry, key, _compile_colour(background, LMS, stimulus))
+                    except ValueError as error:
+                        if isinstance(error, InputError):
+                            raise
+                        raise InputError(str(error), field=json_path(["stimuli", i, key])) from None
             stimuli[stimulus["name"]] = entry
         compiled_response = None
         if response is not None and response["method"] in ("adjustment", "staircase"):
             where = json_path(["trial", response_index, "response"])
-            compiled_response = compile_response(response, stimuli, background, where, values)
+            try:
+                compiled_response = compile_response(response, stimuli, background, where, values)
+            except ValueError as error:
+                if isinstance(error, InputError):
+                    raise
+                raise InputError(str(error), field=where) from None
         compiled_conditions.append(CompiledCondition(index=condition["index"], label=condition["label"],
                                                      labels=condition["labels"], stimuli=stimuli,
                                                      response=compiled_response))

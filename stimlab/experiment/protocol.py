@@ -62,6 +62,7 @@ def validate_protocol(data, name: str = "protocol") -> dict:
         For the first problem, with ``field`` its JSON path.
     """
     check_value(data, file=name)  # NaN, Infinity, lone surrogates and runaway nesting, before the schema
+    _check_lengths(data, name)
     errors = sorted(_validator().iter_errors(data), key=lambda e: (list(map(str, e.absolute_path)), e.message))
     if errors:
         error = _deepest(errors[0])
@@ -78,6 +79,21 @@ def validate_protocol(data, name: str = "protocol") -> dict:
 
 MAX_CONDITIONS = 1_000  # documented in protocols/README.md; real designs have tens
 MAX_TRIALS = 20_000  # about 11 hours at 2 s a trial
+
+
+def _check_lengths(data, name: str) -> None:
+    """The schema's list limits, checked before the schema: its validator takes seconds over 200,000 values."""
+    if not isinstance(data, dict):
+        return
+    conditions = data.get("conditions")
+    variables = conditions.get("variables") if isinstance(conditions, dict) else None
+    for key, values in (variables.items() if isinstance(variables, dict) else ()):
+        if isinstance(values, (list, dict)) and len(values) > 100:
+            raise InputError(f"{len(values):,} values; a variable has at most 100", file=name,
+                             field=f"conditions.variables.{key}")
+    for key in ("stimuli", "trial"):
+        if isinstance(data.get(key), list) and len(data[key]) > 64:
+            raise InputError(f"{len(data[key]):,} entries; at most 64 are allowed", file=name, field=key)
 
 
 def _check_size(data: dict, variables: dict, name: str) -> None:

@@ -253,6 +253,9 @@ def validate(profile: dict, plan: list[dict], readings: list[dict], tolerance: d
         linear = np.array([model.level_outputs[c][step["device"][c]] for c in range(3)])
         XYZ = model.RGB_linear_to_XYZ(linear)
         predicted_Y = float(XYZ[1])
+        if reading["luminance"] <= 0:  # a validation colour is never black: the meter missed the patch
+            raise InputError(f"step {step['step']} ({step['label']}) reads 0 cd/m²; a validation colour always emits "
+                             "light, so measure that step again", field=f"readings[{step['step']}].luminance")
         error = 100 * (predicted_Y - reading["luminance"]) / reading["luminance"]
         row = {"step": step["step"], "label": step["label"], "device": step["device"], "measured_cd_m2":
                reading["luminance"], "predicted_cd_m2": predicted_Y, "luminance_error_percent": error}

@@ -12,7 +12,7 @@ import hashlib
 import sqlite3
 
 from ..errors import ConflictError, InputError
-from ..jsonio import MAX_INT, check_value, dumps, loads
+from ..jsonio import MAX_INT, dumps, loads
 from ..version import __version__
 from .events import event_rows
 from .frame_log import FrameBlock, read_block
@@ -117,7 +117,6 @@ def ingest_batch(db, session_id: int, batch: dict, *, runner: str | None = None)
     """
     if not isinstance(batch, dict):
         raise InputError("a batch must be a JSON object", field="batch")
-    check_value(batch, "")
     number = _field(batch, "batch", int, "batch")
     if not 0 <= number <= MAX_INT:
         raise InputError("batch numbers start at 0", field="batch")
@@ -138,9 +137,11 @@ def ingest_batch(db, session_id: int, batch: dict, *, runner: str | None = None)
             return result
         duplicates = _insert_events(db, events)
         if frames:
-            overlap = db.execute("SELECT batch FROM frames WHERE session_id = ? AND first_frame <= ? AND last_frame >= ? "
-                                 "LIMIT 1", (session_id, frames.last_frame, frames.first_frame)).fetchone()
-            if overlap is not None:
+            # Stored blocks never overlap, so the one starting last at or before this block's end is the only
+            # candidate: one step down the (session_id, first_frame) index, however long the session.
+            overlap = db.execute("SELECT batch, last_frame FROM frames WHERE session_id = ? AND first_frame <= ? "
+                                 "ORDER BY first_frame DESC LIMIT 1", (session_id, frames.last_frame)).fetchone()
+            if overlap is not None and overlap[1] >= frames.first_frame:
                 raise ConflictError(f"frames {frames.first_frame}–{frames.last_frame} overlap frames already stored "
                                     f"from batch {overlap[0]}; nothing was stored from this batch", field="frames")
             db.execute("INSERT INTO frames VALUES (?, ?, ?, ?, ?, ?, ?)",

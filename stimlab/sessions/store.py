@@ -139,6 +139,7 @@ MIGRATIONS = [
     """
     ALTER TABLE batches ADD COLUMN digest TEXT;
     ALTER TABLE displays ADD COLUMN archived_at TEXT;
+    CREATE INDEX frames_by_first_frame ON frames (session_id, first_frame);
     CREATE TABLE runner_leases (
         session_id INTEGER PRIMARY KEY REFERENCES sessions(id),
         holder TEXT NOT NULL,

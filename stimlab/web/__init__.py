@@ -94,6 +94,12 @@ def create_app(data_dir, *, allowed_hosts: set[str] | None = None, testing: bool
     def home():
         return redirect(url_for("protocols.index"))
 
+    @app.get("/api/openapi.json")
+    def api_openapi():
+        from .openapi import openapi_document
+
+        return openapi_document()
+
     @app.get("/api/")
     def api_index():
         return {"stimlab": __version__, "endpoints": sorted(str(r) for r in app.url_map.iter_rules()

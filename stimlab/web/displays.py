@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 from flask import Blueprint, g, redirect, render_template, request, url_for
 
 from ..colorimetry.display import DisplayModel
@@ -47,9 +49,12 @@ def _number(form, field: str, default, kind=float):
     if not text:
         return default
     try:
-        return kind(text)
+        value = kind(text) if kind is float or len(text) <= 19 else kind("x")
     except ValueError:
-        raise InputError(f"{text!r} is not a {'whole ' if kind is int else ''}number", field=field) from None
+        raise InputError(f"{text[:40]!r} is not a {'whole ' if kind is int else ''}number", field=field) from None
+    if not math.isfinite(value):
+        raise InputError(f"{text!r} is not a finite number", field=field)
+    return value
 
 
 def profile_from_form(form, files) -> dict:

@@ -120,7 +120,10 @@ def index():
 
 # -- files: new, duplicate, rename, delete, restore (forms, then the same as the API) -------------------------
 def _new_name(body, field="new_name") -> str:
-    name = (body.get(field) or "").strip()
+    name = body.get(field)
+    if name is not None and not isinstance(name, str):
+        raise InputError("the file name must be text, e.g. afterimage_null_pilot.json", field=field)
+    name = (name or "").strip()
     if not name:
         raise InputError("give the new file name, e.g. afterimage_null_pilot.json", field=field)
     return safe_protocol_name(name)
@@ -134,7 +137,10 @@ def create_from(body) -> str:
     else:
         if not body.get("paradigm"):
             raise InputError("choose a paradigm template to start from", field="paradigm")
-        protocol = paradigm_protocol(body["paradigm"], (body.get("title") or "").strip() or None)
+        title = body.get("title")
+        if title is not None and not isinstance(title, str):
+            raise InputError("the title must be text", field="title")
+        protocol = paradigm_protocol(body["paradigm"], (title or "").strip() or None)
     return protocol_files.create_protocol(current_store(), name, protocol)
 
 
