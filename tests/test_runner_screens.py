@@ -8,6 +8,7 @@ Screenshots go to test-artifacts/screens/ for a person to look at."""
 import csv
 import io
 import sqlite3
+import zipfile
 from pathlib import Path
 
 from test_runner import api, events, open_runner, quick_null, start, token, wait_respond
@@ -152,9 +153,12 @@ def test_only_the_protocols_keys_act_and_practice_is_flagged(server, page):
     rows = list(csv.DictReader(io.StringIO(page.request.get(f"{server.url}/sessions/{session_id}/export.csv").text())))
     assert [r["practice"] for r in rows] == ["True", "False", "False"]
     assert [r["completed"] for r in rows] == ["True"] * 3
-    bids = page.request.get(f"{server.url}/sessions/{session_id}/export.bids").text().splitlines()
+    archive = zipfile.ZipFile(io.BytesIO(page.request.get(f"{server.url}/sessions/{session_id}/export.bids").body()))
+    name = next(n for n in archive.namelist() if n.endswith("_events.tsv"))
+    bids = archive.read(name).decode().splitlines()
     practice_column = bids[0].split("\t").index("practice")
-    assert [line.split("\t")[practice_column] for line in bids[1:4]] == ["True"] * 3
+    first_trial = [line.split("\t") for line in bids[1:] if line.split("\t")[bids[0].split("\t").index("trial")] == "0"]
+    assert first_trial and {row[practice_column] for row in first_trial} == {"true"}
     ends = [data for _, kind, data in events(server, session_id) if kind == "trial_end"]
     assert [e["practice"] for e in ends] == [True, False, False]
 
@@ -193,7 +197,7 @@ def test_a_dry_run_is_scaled_marked_and_left_out_of_analysis(server, page):
     page_text = page.goto(f"{server.url}/sessions/{session_id}").text()
     assert "Dry run" in page_text and "left out of the analysis" in page_text
     rows = list(csv.DictReader(io.StringIO(page.request.get(f"{server.url}/sessions/{session_id}/export.csv").text())))
-    assert {r["dry_run"] for r in rows} == {"0.1"}
+    assert {r["dry_run"] for r in rows} == {"True"}  # the factor is in the session record and provenance
     exported = page.request.get(f"{server.url}/sessions/{session_id}/export.json").json()
     assert exported["session"]["dry_run"] == 0.1
 

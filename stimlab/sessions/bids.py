@@ -71,6 +71,8 @@ def bids_events(db, session: dict) -> list[dict]:
         position = result.get("position")
         row = {"onset": round((onset["t"] - origin) / 1000, 6), "duration": round(max(later - onset["t"], 0) / 1000, 6),
                "trial_type": onset["phase"], "trial": onset["trial"],
+               # practice trials stay in the events, marked, so that analysis can leave them out
+               "practice": bool(data["trials"][onset["trial"]].get("practice", False)),
                "condition": data["conditions"][onset.get("condition", data["trials"][onset["trial"]]["condition"])]
                ["label"], "frame": onset.get("frame"), "response_time": None if rt is None else round(rt / 1000, 6),
                "response_key": result.get("key")}

@@ -138,10 +138,20 @@ async function main() {
   if (status === "ended_early") return stop("This session was ended early", "Start a new session from the Run page.");
   const log = await new SessionLog(sessionId, {
     nextSeq: (progress.last_seq ?? -1) + 1, nextBatch: (progress.last_batch ?? -1) + 1, runToken }).open();
-  log.onStatus = (state) => {
+  log.onStatus = (state, result) => {
     root.dataset.link = state;
     if (state === "unreachable") document.getElementById("link-status").hidden = false;
     if (state === "reachable") document.getElementById("link-status").hidden = true;
+    // A batch the server refuses is not stored: stop presenting rather than run on with data that cannot be kept.
+    if (state === "refused" && window.stimlabState !== "stopped") {
+      const schedule = window.stimlabSchedule;
+      if (schedule && !schedule.paused) schedule.pause("log_refused");
+      if (schedule) schedule.resume = () => {}; // only reopening the page (which resends the log) goes on
+      stop("The server refused part of this session's log",
+        `${result?.body?.error?.message ?? "no reason given"}. Nothing has been discarded: this browser keeps the ` +
+        "log and sends it again when the runner page is reopened. Note this message for whoever looks after stimlab.",
+        log);
+    }
   };
   window.stimlabLog = log;
   if (!(await takeSession(log, say))) return;
@@ -205,7 +215,7 @@ async function main() {
     const brk = breaks.get(trial.index);
     if (!brk || shownBreaks.has(trial.index) || !schedule.started) return;
     shownBreaks.add(trial.index);
-    log.event("break", { before_trial: trial.index, kind: brk.kind, done: brk.done, total: brk.total });
+    log.event("break", { before_trial: trial.index, break_kind: brk.kind, done: brk.done, total: brk.total });
     schedule.fullAdapt = true; // after a break the next trial adapts for the full time, as after any interruption
     const pause = new Break(screens, brk, refreshHz);
     mirror([`Break: ${brk.done} of ${brk.total} trials done.`]);
