@@ -152,4 +152,6 @@ def test_every_demo_protocol_passes_and_flicker_photometry_keeps_its_caution(dem
     photometry = report(protocol_named("flicker_photometry"), demo)
     assert photometry["passed"] and photometry["caution"] == CAUTION
     flashes = [f for f in photometry["findings"] if f["kind"] == "photosensitivity"]
-    assert [f["where"] for f in flashes] == ["protocol"]  # the caution; no flash finding, as before
+    # the caution, and the pass stated as a note; no flash finding, as before
+    assert [(f["where"], f["severity"]) for f in flashes] == [("protocol", "warn"), ("every frame of every trial", "info")]
+    assert "passes WCAG 2.2 SC 2.3.1" in flashes[1]["message"]

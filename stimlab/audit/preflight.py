@@ -336,6 +336,16 @@ def _photosensitivity(findings, compiled, protocol) -> bool:
     seen = set()
     for result, label in cases:
         _flash_findings(findings, compiled, result, label, seen)
+    if not any(f["kind"] == "photosensitivity" and f["severity"] in ("fail", "warn") and f["where"] != "protocol"
+               for f in findings):
+        # Say the result, not only the absence of findings: the whole frame sequence was analysed.
+        most = {key: max(result[key]["max_flashes_per_second"] for result, _ in cases)
+                for key in ("general", "red_wcag22", "red_harding")}
+        findings.add("photosensitivity", "info", "every frame of every trial",
+                     f"passes WCAG 2.2 SC 2.3.1: at most {most['general']} general and "
+                     f"{max(most['red_wcag22'], most['red_harding'])} red flashes in any one second "
+                     f"(limit {MAX_FLASHES_PER_SECOND}), phase changes and an adjustment's reach included",
+                     max_flashes_per_second=most)
     return flicker
 
 

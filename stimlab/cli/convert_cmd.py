@@ -2,9 +2,12 @@
 
 from __future__ import annotations
 
+import numpy as np
+
 from ..colorimetry.display import DisplayModel
 from ..colorimetry.observers import OBSERVERS
 from ..colorimetry.stimulus import Background
+from ..errors import InputError
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, load_profile, profile_warnings
 from .arguments import whole
 from .output import print_json
@@ -43,7 +46,17 @@ def run(args) -> int:
                           ("mb", "macleod_boynton")):
         values = getattr(args, option)
         if values is not None:
-            LMS = background.colour_to_LMS(space, values)
+            flag = "--" + option.replace("_", "-")
+            try:
+                with np.errstate(over="raise", invalid="raise"):
+                    LMS = background.colour_to_LMS(space, values)
+            except FloatingPointError:
+                raise InputError("these values are too large to convert; give contrasts of a size a display can "
+                                 "show (cone contrast and DKL are fractions: 0.1 is 10 %)", field=flag) from None
+            except InputError:
+                raise
+            except ValueError as error:
+                raise InputError(str(error), field=flag) from None
     result = background.describe(LMS)
     result["warnings"] = profile_warnings(profile, args.max_age_days)
     if args.json:

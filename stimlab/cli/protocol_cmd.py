@@ -85,15 +85,22 @@ def run_audit(args) -> int:
     return 0 if report["passed"] else 1
 
 
+def _count(n: int, noun: str) -> str:
+    return f"{n} {noun}{'' if n == 1 else 's'}"
+
+
 def print_report(report: dict, compiled, show_info: bool = False) -> None:
     data = compiled.data
     print(f"{data['protocol']['title']}  on  {data['display']['name']} (sha256 {data['display']['sha256'][:12]}…)")
-    print(f"  {len(data['conditions'])} conditions, {len(data['trials'])} trials, observer {data['observer']['key']}, "
+    print(f"  {_count(len(data['conditions']), 'condition')}, {_count(len(data['trials']), 'trial')}, "
+          f"observer {data['observer']['key']}, "
           f"{data['display']['refresh_hz']:g} Hz, {data['pixels_per_degree']:.1f} px/deg, seed {data['seed']}")
     if report["caution"]:
         print(f"\n  CAUTION: {report['caution']}")
     for kind in KINDS:
-        rows = [f for f in report["findings"] if f["kind"] == kind and (show_info or f["severity"] != "info")]
+        # The photosensitivity result is always shown, a pass included: it is what an ethics board asks about.
+        rows = [f for f in report["findings"] if f["kind"] == kind
+                and (show_info or f["severity"] != "info" or kind == "photosensitivity")]
         if not rows:
             continue
         print(f"\n{HEADINGS[kind]}")
@@ -101,7 +108,7 @@ def print_report(report: dict, compiled, show_info: bool = False) -> None:
             print(f"  {f['severity'].upper():4s}  {f['where']}: {f['message']}")
     counts = report["counts"]
     verdict = "PASSED" if report["passed"] else "FAILED"
-    print(f"\n{verdict}: {counts['fail']} failing, {counts['warn']} warnings, {counts['info']} notes"
+    print(f"\n{verdict}: {counts['fail']} failing, {_count(counts['warn'], 'warning')}, {_count(counts['info'], 'note')}"
           + ("" if show_info else " (--all lists the notes)"))
 
 

@@ -162,13 +162,23 @@ def study_sessions(db, protocol_file: str, *, include_dry_runs: bool = False) ->
     return sessions
 
 
+def no_study_message(db, protocol_file: str) -> str:
+    """Why a protocol has no study yet: no sessions at all, or only dry runs (which analysis leaves out)."""
+    dry = len(study_sessions(db, protocol_file, include_dry_runs=True))
+    if dry:
+        return (f"the {dry} session{'s' if dry != 1 else ''} of {protocol_file!r} so far "
+                f"{'are dry runs' if dry != 1 else 'is a dry run'}, which analysis leaves out; a study page needs "
+                "a real session")
+    return f"there are no sessions of {protocol_file!r} yet; run the protocol first"
+
+
 def study_export(db, store, protocol_file: str, fmt: str) -> ExportFile:
     """One export of a whole study (every session of ``protocol_file``) in ``fmt`` (a key of STUDY_FORMATS)."""
     from .study import study_summary
 
     sessions = study_sessions(db, protocol_file)
     if not sessions:
-        raise InputError(f"there are no sessions of {protocol_file!r} yet", field="protocol")
+        raise InputError(no_study_message(db, protocol_file), field="protocol")
     stem = f"study_{protocol_file.removesuffix('.json')}"
     if fmt in ("csv", "dictionary"):
         rows = [row for s in sessions for row in trial_rows(db, s)]

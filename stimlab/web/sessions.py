@@ -7,7 +7,7 @@ from __future__ import annotations
 from flask import Blueprint, Response, g, render_template, request, stream_with_context
 
 from ..errors import InputError
-from ..sessions.export import SESSION_FORMATS, STUDY_FORMATS, session_export, study_export, study_sessions
+from ..sessions.export import SESSION_FORMATS, STUDY_FORMATS, no_study_message, session_export, study_export, study_sessions
 from ..sessions.figures import FORMATS as FIGURE_FORMATS
 from ..sessions.figures import render, session_specs, study_specs
 from ..sessions.ingest import STATUSES, get_session, progress
@@ -121,7 +121,7 @@ def _protocol_or_404(name: str) -> str:
     except InputError as error:
         raise NotFound(error.message) from None
     if not study_sessions(g.db, name):
-        raise NotFound(f"there are no sessions of {name!r} yet; run the protocol first")
+        raise NotFound(no_study_message(g.db, name))
     return name
 
 
