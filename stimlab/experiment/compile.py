@@ -25,7 +25,7 @@ from .plan import build_plan, plan_sha256
 from .protocol import json_path, protocol_sha256
 from .responses import compile_response
 from .screens import add_screens
-from .timecourse import phase_frames, shown_frequency_hz
+from .timecourse import DROPPED_FRAME_PERIODS, phase_frames, shown_frequency_hz
 
 __all__ = ["compile_protocol", "Compiled", "MODULATION_STEPS", "REFERENCE_GREY"]
 
@@ -276,6 +276,7 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
                        "device": background.to_device("rgb_linear", background.RGB_0).tolist()},
         "fixation": _fixation(protocol, background, distance, px_per_cm),
         "schedules": schedules,
+        "dropped_frame_periods": DROPPED_FRAME_PERIODS,
         "adaptation_model": protocol.get("adaptation_model"),
         "photometry": protocol.get("photometry"),
         "conditions": [c.to_json() for c in compiled_conditions],

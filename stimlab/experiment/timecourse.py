@@ -29,11 +29,15 @@ from fractions import Fraction
 
 import numpy as np
 
-__all__ = ["STEPS", "phase_frames", "square_period_frames", "shown_frequency_hz", "course_plan", "steps_at",
-           "steps_for_phase"]
+__all__ = ["DROPPED_FRAME_PERIODS", "STEPS", "phase_frames", "square_period_frames", "shown_frequency_hz",
+           "course_plan", "steps_at", "steps_for_phase"]
 
 STEPS = 255
 """Modulation steps either side of the background: the size of the compiled tables' half range."""
+
+DROPPED_FRAME_PERIODS = 1.5
+"""A frame interval of this many refresh periods or more is a dropped frame (common practice). The compiler sends
+it to the runner, which flags frames by it; the timing summary and figures read it from here."""
 
 MAX_PERIOD_FRAMES = 1_000_000
 """Longest exact sine period sent as one cycle; a frequency needing more is approximated to this denominator."""

@@ -19,6 +19,8 @@ from pathlib import Path
 
 import numpy as np
 
+from ..experiment.timecourse import DROPPED_FRAME_PERIODS
+
 __all__ = ["session_specs", "study_specs", "render", "FORMATS", "FIGURE_VERSION"]
 
 FORMATS = {"svg": "image/svg+xml", "pdf": "application/pdf"}
@@ -67,8 +69,8 @@ def _intervals(spec: dict, figure) -> None:
     edges = np.array(spec["edges_ms"])
     ax.bar(edges[:-1], spec["counts"], width=np.diff(edges), align="edge", color=PALETTE[0], edgecolor="white",
            lw=0.5, label="frames")
-    ax.axvline(1.5 * spec["period_ms"], color=PALETTE[1], linestyle="--",
-               label=f"dropped-frame limit (1.5 × {spec['period_ms']:.2f} ms)")
+    ax.axvline(DROPPED_FRAME_PERIODS * spec["period_ms"], color=PALETTE[1], linestyle="--",
+               label=f"dropped-frame limit ({DROPPED_FRAME_PERIODS:g} × {spec['period_ms']:.2f} ms)")
     ax.set(xlabel="frame interval (ms)", ylabel="frames", title="Frame intervals")
     ax.legend(fontsize=8, frameon=False)
 

@@ -16,6 +16,7 @@ from ..jsonio import MAX_INT, dumps, loads
 from ..version import __version__
 from .events import event_rows
 from .frame_log import FrameBlock, read_block
+from .store import utc_now
 
 __all__ = ["create_session", "get_session", "ingest_batch", "frame_blocks", "iter_frames", "set_status", "progress",
            "take_lease", "release_lease", "LEASE_IDLE_S", "end_early"]
@@ -26,7 +27,7 @@ RELEASED = "1970-01-01T00:00:00.000+00:00"  # seen_at of a lease its runner gave
 
 
 def _now() -> str:
-    return dt.datetime.now(dt.timezone.utc).isoformat(timespec="milliseconds")
+    return utc_now("milliseconds")  # runner leases compare times to the millisecond
 
 
 def create_session(db, *, protocol_file: str, protocol_sha256: str, display_id: int, participant: str,

@@ -196,8 +196,9 @@ def safe_protocol_name(name: str) -> str:
     return name
 
 
-def _now() -> str:
-    return dt.datetime.now(dt.timezone.utc).replace(microsecond=0).isoformat()
+def utc_now(timespec: str = "seconds") -> str:
+    """The time now in UTC as ISO 8601 text, the form every stored time takes (``timespec`` as for isoformat)."""
+    return dt.datetime.now(dt.timezone.utc).isoformat(timespec=timespec)
 
 
 class Store:
@@ -280,7 +281,7 @@ class Store:
                                      (profile["name"],)).fetchone()[0]
                 display_id = db.execute(
                     "INSERT INTO displays (name, version, sha256, profile, created_at) VALUES (?, ?, ?, ?, ?)",
-                    (profile["name"], version, profile["sha256"], text, _now())).lastrowid
+                    (profile["name"], version, profile["sha256"], text, utc_now())).lastrowid
             db.execute("COMMIT")
         except BaseException:
             db.execute("ROLLBACK")
@@ -301,7 +302,7 @@ class Store:
 
     def archive_display(self, db, display_id: int, archived: bool = True) -> None:
         """Hide a display from lists and defaults (or show it again); its profile stays for the sessions run on it."""
-        db.execute("UPDATE displays SET archived_at = ? WHERE id = ?", (_now() if archived else None, display_id))
+        db.execute("UPDATE displays SET archived_at = ? WHERE id = ?", (utc_now() if archived else None, display_id))
 
     @staticmethod
     def _display(row) -> dict:
@@ -319,7 +320,7 @@ class Store:
     @staticmethod
     def set_setting(db, key: str, value) -> None:
         db.execute("INSERT INTO settings (key, value, updated_at) VALUES (?, ?, ?) ON CONFLICT (key) DO UPDATE "
-                   "SET value = excluded.value, updated_at = excluded.updated_at", (key, json.dumps(value), _now()))
+                   "SET value = excluded.value, updated_at = excluded.updated_at", (key, json.dumps(value), utc_now()))
 
     # -- protocols ----------------------------------------------------------------------------------------------
     def protocol_names(self) -> list[str]:
@@ -371,7 +372,7 @@ class Store:
             "INSERT INTO observer_adjustments (participant, standard_observer, ratio, w_L, w_M, summary, session_id, "
             "display_id, created_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
             (participant, standard, summary["ratio"], summary["w_L"], summary["w_M"], json.dumps(summary), session_id,
-             display_id, _now()))
+             display_id, utc_now()))
         return cursor.lastrowid
 
     def latest_adjustment(self, db, participant: str) -> dict | None:

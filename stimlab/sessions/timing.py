@@ -22,7 +22,8 @@ def timing(db, session: dict) -> dict:
     intervals = np.diff(stamps) if stamps.size > 1 else np.zeros(0)
     intervals = intervals[intervals < 10 * period]  # gaps from pauses and resumes are not frame intervals
     # Bins a ninth of a period wide, centred on multiples of it: one bin holds the period itself (16.665 and
-    # 16.670 ms alike at 60 Hz) and an edge falls exactly on the dropped-frame limit of 1.5 periods.
+    # 16.670 ms alike at 60 Hz) and an edge falls exactly on the dropped-frame limit of 1.5 periods
+    # (DROPPED_FRAME_PERIODS).
     width = period / 9
     edges = np.r_[0.0, (np.arange(28) + 0.5) * width]
     counts, _ = np.histogram(np.clip(intervals, 0, edges[-1] - 1e-9), bins=edges)

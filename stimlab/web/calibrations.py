@@ -4,7 +4,6 @@ and validates it."""
 
 from __future__ import annotations
 
-import datetime as dt
 import json
 import math
 
@@ -19,16 +18,13 @@ from ..profiles.calibration import (
     validate,
 )
 from ..profiles.measurements import parse_spectra
+from ..sessions.store import utc_now
 from . import current_store
 from .displays import _number, _pair
 from .errors import NotFound, WebError
 from .strict import whole_number
 
 blueprint = Blueprint("calibrations", __name__)
-
-
-def _now() -> str:
-    return dt.datetime.now(dt.timezone.utc).isoformat(timespec="seconds")
 
 
 def _run(run_id: int) -> dict:
@@ -87,7 +83,7 @@ def create():
     except InputError as error:
         return render_template("calibration_new.html", display=None, error=error), 400
     cursor = g.db.execute("INSERT INTO calibration_runs (name, settings, plan, created_at) VALUES (?, ?, ?, ?)",
-                          (name, json.dumps(settings), json.dumps(plan), _now()))
+                          (name, json.dumps(settings), json.dumps(plan), utc_now()))
     return redirect(url_for("calibrations.show", run_id=cursor.lastrowid), 303)
 
 
@@ -142,7 +138,7 @@ def api_reading(run_id: int, step: int):
     luminance, x, y = _reading(request.get_json(silent=True))
     g.db.execute("INSERT INTO calibration_readings VALUES (?, ?, ?, ?, ?, ?) ON CONFLICT (run_id, step) DO UPDATE "
                  "SET luminance = excluded.luminance, x = excluded.x, y = excluded.y, measured_at = excluded.measured_at",
-                 (run_id, step, luminance, x, y, _now()))
+                 (run_id, step, luminance, x, y, utc_now()))
     return {"step": step, "saved": True}
 
 

@@ -14,6 +14,8 @@ export class Schedule {
     this.painter = painter;
     this.log = log;
     this.period = 1000 / data.display.refresh_hz;
+    // The dropped-frame limit comes with the compiled session (stimlab/experiment/timecourse.py).
+    this.droppedLimit = (data.dropped_frame_periods ?? 1.5) * this.period;
     const done = new Set(progress.completed_trials);
     this.queue = data.trials.filter((t) => !done.has(t.index));
     this.frame = progress.last_frame === null ? 0 : progress.last_frame + 1;
@@ -169,7 +171,7 @@ export class Schedule {
   tick(stamp) {
     if (this.stopped) return; // ended early: no more frames
     const callbackStart = performance.now();
-    const dropped = this.lastStamp !== null && stamp - this.lastStamp >= 1.5 * this.period;
+    const dropped = this.lastStamp !== null && stamp - this.lastStamp >= this.droppedLimit;
     this.lastStamp = stamp;
     if (dropped) {
       this.dropped += 1;
