@@ -9,14 +9,12 @@ from __future__ import annotations
 import hashlib
 import json
 from functools import lru_cache
-from importlib import resources
 from pathlib import Path
-
-import jsonschema
 
 from ..colorimetry.observers import OBSERVERS
 from ..errors import InputError
 from ..jsonio import check_value, loads
+from ..schemas import deepest_error, json_path, schema, validator
 from .labels import explain_schema_error, field_label, plain_words
 
 __all__ = ["load_protocol", "parse_protocol", "validate_protocol", "protocol_schema", "json_path",
@@ -27,30 +25,9 @@ CAUTION = ("Flicker and flashing can trigger seizures in people with photosensit
 """The photosensitivity caution shown wherever flicker is designed or run."""
 
 
-@lru_cache(maxsize=1)
 def protocol_schema() -> dict:
     """The JSON Schema document for protocol files (``stimlab/data/protocol.schema.json``)."""
-    return json.loads(resources.files("stimlab.data").joinpath("protocol.schema.json").read_text("utf-8"))
-
-
-@lru_cache(maxsize=1)
-def _validator():
-    return jsonschema.Draft202012Validator(protocol_schema())
-
-
-def json_path(parts) -> str:
-    """``['stimuli', 2, 'colour', 'dkl', 1]`` → ``stimuli[2].colour.dkl[1]``."""
-    text = ""
-    for part in parts:
-        text += f"[{part}]" if isinstance(part, int) else (f".{part}" if text else str(part))
-    return text or "(top level)"
-
-
-def _deepest(error):
-    """For oneOf/anyOf failures, the sub-error that got furthest, which names the real problem."""
-    while error.context:
-        error = max(error.context, key=lambda e: (len(e.absolute_path), -len(e.message)))
-    return error
+    return schema("protocol")
 
 
 def validate_protocol(data, name: str = "protocol") -> dict:
@@ -63,9 +40,9 @@ def validate_protocol(data, name: str = "protocol") -> dict:
     """
     check_value(data, file=name)  # NaN, Infinity, lone surrogates and runaway nesting, before the schema
     _check_lengths(data, name)
-    errors = sorted(_validator().iter_errors(data), key=lambda e: (list(map(str, e.absolute_path)), e.message))
+    errors = sorted(validator("protocol").iter_errors(data), key=lambda e: (list(map(str, e.absolute_path)), e.message))
     if errors:
-        error = _deepest(errors[0])
+        error = deepest_error(errors[0])
         raise InputError(explain_schema_error(error, data), file=name, field=json_path(error.absolute_path))
     try:
         _check_references(data, name)

@@ -9,14 +9,12 @@ conditioned), wavelengths must rise, and the display model built from the profil
 from __future__ import annotations
 
 import json
-from functools import lru_cache
-from importlib import resources
 
-import jsonschema
 import numpy as np
 
 from ..errors import InputError
 from ..jsonio import check_value
+from ..schemas import deepest_error, json_path, schema, validator
 
 __all__ = ["check_profile", "profile_schema", "MAX_CONDITION"]
 
@@ -26,28 +24,9 @@ __all__ = ["check_profile", "profile_schema", "MAX_CONDITION"]
 MAX_CONDITION = 1e6
 
 
-@lru_cache(maxsize=1)
 def profile_schema() -> dict:
     """The JSON Schema document for display profiles (``stimlab/data/profile.schema.json``)."""
-    return json.loads(resources.files("stimlab.data").joinpath("profile.schema.json").read_text("utf-8"))
-
-
-@lru_cache(maxsize=1)
-def _validator():
-    return jsonschema.Draft202012Validator(profile_schema())
-
-
-def _path(parts) -> str:
-    text = ""
-    for part in parts:
-        text += f"[{part}]" if isinstance(part, int) else (f".{part}" if text else str(part))
-    return text or "(top level)"
-
-
-def _deepest(error):
-    while error.context:
-        error = max(error.context, key=lambda e: (len(e.absolute_path), -len(e.message)))
-    return error
+    return schema("profile")
 
 
 def _schema_message(error) -> str:
@@ -86,11 +65,11 @@ def check_profile(data, name: str = "profile") -> dict:
     if not isinstance(data, dict):
         raise InputError("a display profile is a JSON object built by 'stimlab display build'", file=name)
     check_value(data, file=name)
-    errors = sorted(_validator().iter_errors(data), key=lambda e: list(map(str, e.absolute_path)))
+    errors = sorted(validator("profile").iter_errors(data), key=lambda e: list(map(str, e.absolute_path)))
     if errors:
-        error = _deepest(errors[0])
+        error = deepest_error(errors[0])
         raise InputError(_schema_message(error) + "; rebuild the profile from the measurements", file=name,
-                         field=_path(error.absolute_path))
+                         field=json_path(error.absolute_path))
     primaries = data["primaries"]
     if primaries["kind"] == "spectra":
         wavelengths = np.asarray(primaries["wavelength_nm"], dtype=float)
