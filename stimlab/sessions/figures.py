@@ -51,17 +51,14 @@ def _vectors(spec: dict, figure) -> None:
         points = np.array(condition["points"])
         ax.scatter(points[:, 0], points[:, 1], s=12, color=colour, alpha=0.45, linewidths=0,
                    label=f"{condition['label']}")
-        unit = np.array(condition["adapt"]) / (np.linalg.norm(condition["adapt"]) or 1)
-        ax.annotate(condition["label"], xy=condition["adapt"], xytext=tuple(8 * unit), textcoords="offset points",
-                    fontsize=8, color=colour, ha="left" if unit[0] > 0.3 else "right" if unit[0] < -0.3 else "center",
-                    va="bottom" if unit[1] > 0.3 else "top" if unit[1] < -0.3 else "center")
     ax.plot([], [], color="0.4", linestyle="--", label=spec["source_name"])
     ax.plot([], [], color="0.4", lw=2, label=f"mean {spec['response_name']}")
     ax.axhline(0, color="0.85", lw=0.8, zorder=0)
     ax.axvline(0, color="0.85", lw=0.8, zorder=0)
     ax.set(xlim=(-span, span), ylim=(-span, span), aspect="equal", xlabel="DKL L−M", ylabel="DKL S",
            title=f"{spec['source_name'].capitalize()} and {spec['response_name']} vectors")
-    ax.legend(fontsize=7, frameon=False, loc="center left", bbox_to_anchor=(1.02, 0.5))
+    # Below the plot, a column per entry pair: condition labels are long and must not cover the arrows or axes.
+    ax.legend(fontsize=7, frameon=False, loc="upper center", bbox_to_anchor=(0.5, -0.14), ncol=2)
 
 
 def _intervals(spec: dict, figure) -> None:
