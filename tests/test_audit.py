@@ -42,7 +42,7 @@ def test_out_of_gamut_adapter_names_channel_and_amount(demo, demo_model, protoco
     RGB = demo_model.LMS_to_RGB_linear(background.colour_to_LMS("dkl", [0, 0.3, 0]))
     expected = {c: float(v - 1 if v > 1 else v) for c, v in zip(("red", "green", "blue"), RGB) if not 0 <= v <= 1}
     assert failure["values"]["overshoot"] == pytest.approx(expected, abs=1e-6)
-    assert failure["values"]["max_scale"] == pytest.approx(background.DKL_limits[1, 1] / 0.3)
+    assert failure["values"]["in_gamut_scale"] == pytest.approx(background.DKL_limits[1, 1] / 0.3)
 
 
 def test_adjustment_range_leaving_the_gamut_reports_the_amount(demo, demo_model, protocol_named):

@@ -112,7 +112,7 @@ def _colour(findings, compiled, entry, where):
                          f"out of gamut at modulation {extreme['modulation']:+g}: "
                          + ", ".join(f"{c} {v:+.4f}" for c, v in over.items())
                          + f" beyond 0..1 (linear); only ×{float(fits):.3f} of this contrast fits",
-                         modulation=extreme["modulation"], overshoot=over, max_scale=float(fits),
+                         modulation=extreme["modulation"], overshoot=over, in_gamut_scale=float(fits),
                          limiting_channel=CHANNELS[int(channel)] if channel >= 0 else None)
     contrast = np.asarray(entry.cone_contrast)
     pooled = float(np.linalg.norm(contrast))
@@ -242,18 +242,18 @@ def _grain(compiled, RGB):
                                                    compiled.background.LMS_0)))
 
 
-def _prediction(findings, compiled, model, index, response, label):
+def _prediction(findings, compiled, adaptation_model, index, response, label):
     stimuli = compiled.stimuli[index]
-    k = float(model.get("exponent", 1.0))
+    k = float(adaptation_model.get("exponent", 1.0))
     background = compiled.background
-    if model["kind"] == "after_image":
-        adapter = np.asarray(stimuli[model["adapter"]].colour.cone_contrast)
+    if adaptation_model["kind"] == "after_image":
+        adapter = np.asarray(stimuli[adaptation_model["adapter"]].colour.cone_contrast)
         predicted = null_cone_contrast(adapter, k)
         what = "null of the after-image"
     else:
-        inducer = stimuli[model["inducer"]]
+        inducer = stimuli[adaptation_model["inducer"]]
         surround = (inducer.second_colour or inducer.colour).cone_contrast
-        test = stimuli[model["test"]].colour.cone_contrast
+        test = stimuli[adaptation_model["test"]].colour.cone_contrast
         predicted = induced_match_cone_contrast(test, surround, k)
         what = "match to the induced colour"
     LMS = background.LMS_0 * (1 + predicted)

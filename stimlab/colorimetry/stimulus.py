@@ -312,7 +312,7 @@ class Background:
         RGB += b[:, None]
         return channel_first_to_device(RGB, self.model.level_outputs).reshape(values.shape)
 
-    def max_scale(self, LMS: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.int_]]:
+    def in_gamut_scale(self, LMS: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.int_]]:
         """In-gamut scale of each colour's difference from the background, and the limiting channel.
 
         ``LMS`` has shape (..., 3); the scale (≥ 0, ``inf`` for the background itself) is ≥ 1 exactly for colours
@@ -367,7 +367,7 @@ class Background:
         LMS = np.asarray(LMS, dtype=float)
         RGB = model.LMS_to_RGB_linear(LMS)
         inside = bool(is_within_gamut(RGB))
-        scale, channel = self.max_scale(LMS)
+        scale, channel = self.in_gamut_scale(LMS)
         XYZ = model.RGB_linear_to_XYZ(RGB)
         white = model.RGB_linear_to_XYZ(np.ones(3))
         result = {
