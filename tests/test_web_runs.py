@@ -89,3 +89,13 @@ def test_the_run_page_shows_the_sessions_duration_with_its_pre_adaptation(client
     page = client.get("/run?protocol=afterimage_null.json&display=1").text
     assert "the session lasts at least" in page and "pre-adaptation 60 s × 2" in page
     assert 'name="dry_run_factor"' in page
+
+
+def test_a_refused_start_shows_the_run_page_again_with_the_reason_and_the_entries(client):
+    response = client.post("/run", data={"csrf_token": client.csrf, "protocol": "afterimage_null.json", "display": 1,
+                                         "participant": "Jane Doe <b>", "dry_run": "yes", "dry_run_factor": "0.05"})
+    assert response.status_code == 400
+    page = response.text
+    assert "Not started:" in page and "participant" in page and "pseudonymous" in page
+    assert 'value="Jane Doe &lt;b&gt;"' in page  # what was typed is kept (escaped), not lost
+    assert 'name="dry_run" value="yes" checked' in page and '<option value="0.05" selected>' in page

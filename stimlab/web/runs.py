@@ -58,19 +58,25 @@ def gate(report: dict) -> dict:
 
 @blueprint.get("/run")
 def start_page():
+    return _start_page(request.args.get("protocol"), request.args.get("display"))
+
+
+def _start_page(name, display, *, error: str | None = None, values=None, status: int = 200):
+    """The Run page; after a refused start, again with the reason and what was entered (never a dead end)."""
     protocols = current_store().protocol_names()
-    name = request.args.get("protocol") or (protocols[0] if protocols else None)
-    display_id = default_display_id(request.args.get("display"))
+    name = name or (protocols[0] if protocols else None)
+    display_id = default_display_id(display)
     state = None
     if name and display_id:
-        _, protocol, error = read_protocol(name)
-        if error:
-            raise WebError(f"{name} does not validate: {error}; fix it in the editor first", field="protocol")
+        _, protocol, invalid = read_protocol(name)
+        if invalid:
+            raise WebError(f"{name} does not validate: {invalid}; fix it in the editor first", field="protocol")
         report, compiled = run_audit(protocol, display_id)
         state = {**gate(report), "report": report, "trials": len(compiled.data["trials"]),
                  "conditions": len(compiled.data["conditions"])}
     return render_template("run_start.html", protocols=protocols, name=name, displays=current_store().displays(g.db),
-                           display_id=display_id, state=state, caution=CAUTION, dry_run_factors=DRY_RUN_FACTORS)
+                           display_id=display_id, state=state, caution=CAUTION, dry_run_factors=DRY_RUN_FACTORS,
+                           error=error, values=values or {}), status
 
 
 DRY_RUN_FACTORS = (0.5, 0.2, 0.1, 0.05, 0.02)
@@ -159,8 +165,16 @@ def start_form():
     ack = {"accepted": form.get("accept") == "yes", "ethics_reference": form.get("ethics_reference", ""),
            "experimenter": form.get("experimenter", "")}
     dry_run = form.get("dry_run_factor") if form.get("dry_run") == "yes" else None
-    session_id = start_session(form.get("protocol", ""), form.get("display"), form.get("participant", ""), ack,
-                               dry_run)
+    try:
+        session_id = start_session(form.get("protocol", ""), form.get("display"), form.get("participant", ""), ack,
+                                   dry_run)
+    except (WebError, InputError) as refused:
+        if isinstance(refused, InputError):
+            refused = WebError.from_input(refused)
+        if refused.status not in (400, 409):
+            raise
+        return _start_page(form.get("protocol"), form.get("display"), error=refused.message, values=form,
+                           status=refused.status)
     return redirect(url_for("runs.runner", session_id=session_id), 303)
 
 
