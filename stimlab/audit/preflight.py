@@ -278,7 +278,8 @@ def _prediction(findings, compiled, adaptation_model, index, response, label):
                      "fits); reduce the adapting or inducing contrast", **values)
     else:
         findings.add("prediction", "info", where, f"von Kries (k={k:g}) predicts the {what} at position {shown}: "
-                     f"{margin:.3f} inside the limits, ×{float(fits):.2f} gamut headroom", **values)
+                     f"{margin:.3f} (in position units) from the nearest limit, and the predicted colour could be "
+                     f"scaled ×{float(fits):.2f} before it leaves the gamut", **values)
 
 
 def _distinct_conditions(findings, compiled):

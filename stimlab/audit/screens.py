@@ -65,7 +65,9 @@ def _duration(findings, data) -> None:
                                                      else ""),
              f"{len(data['trials'])} trials" + (f" ({practice} practice)" if practice else "")]
     if breaks:
-        parts.append(f"{len(breaks)} breaks of at least {breaks[0]['minimum_frames'] / refresh:g} s")
+        minimum = breaks[0]["minimum_frames"] / refresh
+        parts.append(f"{len(breaks)} break{'s' if len(breaks) != 1 else ''}"
+                     + (f" of at least {minimum:g} s" if minimum > 0 else " (as long as the participant likes)"))
     findings.add("timing", "info", "session",
                  f"the session lasts at least {total_s / 60:.1f} min plus response times and pauses: "
                  + ", ".join(parts),

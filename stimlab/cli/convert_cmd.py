@@ -97,7 +97,10 @@ def print_table(r: dict) -> None:
               f"{r['limiting_channel'] or 'no'} channel limits it")
     else:
         over = ", ".join(f"{c} {v:+.4f}" for c, v in r["out_of_gamut"].items())
+        fits = r["max_scale_in_gamut"]
         print(f"  OUT OF GAMUT: {over} beyond 0..1 in linear RGB; no device values given (not clipped). "
-              f"The same direction fits at ×{r['max_scale_in_gamut']:.3f} of this contrast.")
+              + (f"The same direction fits at ×{fits:.3f} of this contrast." if fits >= 5e-4 else
+                 "This direction cannot be shown at all from this background: "
+                 f"the {r['limiting_channel'] or 'limiting'} channel is already at its limit."))
     for warning in r["warnings"]:
         print(f"  WARNING: {warning}")
