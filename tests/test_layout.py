@@ -14,8 +14,9 @@ from pathlib import Path
 import pytest
 
 PACKAGE = Path(__file__).parents[1] / "stimlab"
-LAYERS = {"errors": 0, "version": 0, "assets": 0, "jsonio": 0.5, "schemas": 0.5, "colorimetry": 1, "profiles": 2, "data": 2, "experiment": 3,
-# jsonio sits on errors and under everything else: the one strict JSON parser every layer reads with.
+LAYERS = {"errors": 0, "version": 0, "assets": 0, "jsonio": 0.5, "schemas": 0.5, "figures": 0.5, "colorimetry": 1, "profiles": 2, "data": 2, "experiment": 3,
+# jsonio sits on errors and under everything else: the one strict JSON parser every layer reads with; figures is
+# the one matplotlib renderer and cache that the display, session and study figures share.
           "audit": 4, "sessions": 5, "cli": 6, "web": 6}
 WEB_ONLY = ("flask", "werkzeug", "jinja2")
 ALLOWED_ACROSS_TOP = {("stimlab.cli.serve_cmd", "web")}

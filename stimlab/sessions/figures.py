@@ -1,41 +1,25 @@
 """Figures of a session or a study drawn with matplotlib, as SVG or PDF, cached on disk by content.
 
-Each figure is built from a small JSON-able *spec* (the numbers it shows, taken from the session or study summary),
-so the cache key is the SHA-256 of the figure's kind, spec and format: the same numbers are never drawn twice, and
-new data make a new figure. matplotlib's object interface is used (``matplotlib.figure.Figure``, no pyplot), which
-keeps no global figure state between requests. Dates are left out of the files so the same figure is the same
-bytes.
+Each figure is built from a small JSON-able *spec* (the numbers it shows, taken from the session or study summary)
+and drawn, cached and stamped by the shared :mod:`stimlab.figures`: the same numbers are never drawn twice, and new
+data make a new figure.
 """
 
 from __future__ import annotations
 
-import hashlib
-import io
-import json
-import os
 import textwrap
-import threading
 from pathlib import Path
 
 import numpy as np
 
 from ..experiment.timecourse import DROPPED_FRAME_PERIODS
+from ..figures import FORMATS, PALETTE, new_axes
+from ..figures import render as render_spec
 
 __all__ = ["session_specs", "study_specs", "render", "FORMATS", "FIGURE_VERSION"]
 
-FORMATS = {"svg": "image/svg+xml", "pdf": "application/pdf"}
 FIGURE_VERSION = 3  # part of the cache key: raise it when the drawing code changes
-METADATA = {"svg": {"Date": None, "Creator": "stimlab"}, "pdf": {"CreationDate": None, "Creator": "stimlab"}}
-DRAWING = threading.Lock()  # matplotlib's settings are process-wide; one figure is drawn at a time
-# Okabe & Ito (2008) colour-blind-safe palette, common practice for figures in vision science.
-PALETTE = ["#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#F0E442", "#000000"]
-
-
-def _axes(figure, **options):
-    ax = figure.add_subplot(**options)
-    ax.ticklabel_format(style="plain", useOffset=False)  # readable ticks: no 1.02e+03 or offsets
-    ax.spines[["top", "right"]].set_visible(False)
-    return ax
+_axes = new_axes
 
 
 def _vectors(spec: dict, figure) -> None:
@@ -155,25 +139,4 @@ def study_specs(study: dict) -> dict[str, dict]:
 
 def render(spec: dict, fmt: str, cache_dir: Path | None = None) -> bytes:
     """The figure of ``spec`` as SVG or PDF bytes, from ``cache_dir`` when the same spec was drawn before."""
-    import matplotlib
-    from matplotlib.figure import Figure
-
-    text = json.dumps({"spec": spec, "format": fmt, "version": FIGURE_VERSION}, sort_keys=True, default=float)
-    key = hashlib.sha256(text.encode()).hexdigest()
-    path = Path(cache_dir) / f"{key}.{fmt}" if cache_dir else None
-    if path is not None and path.exists():
-        return path.read_bytes()
-    build, size = BUILDERS[spec["kind"]]
-    out = io.BytesIO()
-    # SVG text stays text (searchable, selectable, readable by screen readers); PDF embeds TrueType fonts
-    with DRAWING, matplotlib.rc_context({"svg.fonttype": "none", "pdf.fonttype": 42, "font.size": 9}):
-        figure = Figure(figsize=size, layout="constrained")
-        build(spec, figure)
-        figure.savefig(out, format=fmt, metadata=METADATA[fmt])
-    data = out.getvalue()
-    if path is not None:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        temporary = path.with_suffix(f".{os.getpid()}.part")
-        temporary.write_bytes(data)
-        os.replace(temporary, path)  # readers see a whole file or none
-    return data
+    return render_spec(spec, fmt, BUILDERS, FIGURE_VERSION, cache_dir)
