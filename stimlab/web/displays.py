@@ -6,10 +6,11 @@ import math
 
 from flask import Blueprint, g, redirect, render_template, request, url_for
 
-from ..colorimetry.display import DisplayModel
-from ..colorimetry.stimulus import Background
 from ..colorimetry.transfer import TRANSFER_MODELS
 from ..errors import InputError
+from ..figures import spec_key
+from ..profiles.figures import display_specs
+from ..profiles.figures import render as render_figure
 from ..profiles.measurements import CHANNELS, parse_spectra, parse_transfer
 from ..profiles.profile import (
     build_profile,
@@ -18,7 +19,7 @@ from ..profiles.profile import (
 from ..profiles.summary import display_summary
 from . import current_store
 from .errors import NotFound, WebError
-from .plots import dkl_plane_plot, macleod_boynton_plot, transfer_plot
+from .figures import figure_response
 from .strict import whole_number
 
 blueprint = Blueprint("displays", __name__)
@@ -142,15 +143,22 @@ def create():
 def show(display_id: int):
     display = _get(display_id)
     profile = display["profile"]
-    model = DisplayModel(profile)
-    background = Background(model, [0.5, 0.5, 0.5])
-    axes = [{"label": f"{name} {sign}", "lm": lm, "s": s, "ok": True}
-            for name, sign, lm, s in (("L−M", "+", background.DKL_limits[1, 1], 0), ("L−M", "−",
-                                      background.DKL_limits[1, 0], 0), ("S", "+", 0, background.DKL_limits[2, 1]),
-                                      ("S", "−", 0, background.DKL_limits[2, 0]))]
-    return render_template("display.html", display=display, summary=display_summary(profile),
-                           transfer=transfer_plot(profile), plane=dkl_plane_plot(background, axes),
-                           mb=macleod_boynton_plot(model), is_default=display["id"] == chosen_default_id())
+    # each figure's URL carries its content's hash, so a recalibrated display never shows a cached old figure
+    figures = {name: spec_key(spec)[:16] for name, spec in display_specs(profile).items()}
+    return render_template("display.html", display=display, summary=display_summary(profile), figures=figures,
+                           is_default=display["id"] == chosen_default_id())
+
+
+def _slug(display: dict) -> str:
+    return "".join(c if c.isalnum() or c in "-_" else "_" for c in display["name"]).strip("_") or "display"
+
+
+@blueprint.get("/displays/<int:display_id>/figures/<figure>.<fmt>")
+def display_figure(display_id: int, figure: str, fmt: str):
+    """A figure of the display (``transfer``, ``gamut``, ``macleod_boynton``) as SVG or PDF."""
+    display = _get(display_id)
+    return figure_response(display_specs(display["profile"]), figure, fmt,
+                           f"{_slug(display)}_v{display['version']}_{figure}", render_figure)
 
 
 # -- API ------------------------------------------------------------------------------------------------------
@@ -253,6 +261,6 @@ def download(display_id: int):
     from flask import Response
 
     display = _get(display_id)
-    slug = "".join(c if c.isalnum() or c in "-_" else "_" for c in display["name"]).strip("_") or "display"
+    slug = _slug(display)
     return Response(json.dumps(display["profile"], indent=1, ensure_ascii=False) + "\n", mimetype="application/json",
                     headers={"Content-Disposition": f'attachment; filename="{slug}_v{display["version"]}.json"'})

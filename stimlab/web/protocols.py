@@ -14,13 +14,17 @@ from ..experiment.edits import apply_edit, optional_fields
 from ..experiment.labels import short_label
 from ..experiment.paradigms import paradigm_protocol, paradigms
 from ..experiment.protocol import CAUTION, protocol_sha256, validate_protocol
+from ..figures import recall_spec, remember_spec
+from ..profiles.figures import render as render_figure
+from ..profiles.plane_figure import plane_spec
 from ..sessions import protocol_files
 from ..sessions.observers import observer_for_protocol
 from ..sessions.store import safe_protocol_name, text_sha256
 from . import current_store
 from .displays import _get, chosen_default_id, default_display_id
 from .errors import NotFound, WebError
-from .plots import dkl_plane_plot, frame_preview
+from .figures import figure_response, figures_dir
+from .plots import frame_preview
 
 blueprint = Blueprint("protocols", __name__)
 AUDIT_CACHE_BYTES = 64 * 1024 * 1024  # compiled protocols kept for the live audit, at most
@@ -66,8 +70,9 @@ def run_audit(protocol: dict, display_id: int, participant: int = 1) -> tuple[di
     return cache[key]
 
 
-def plane_for(compiled) -> dict:
-    """The first condition's stimuli and adjustment ranges on the DKL isoluminant plane."""
+def plane_for(compiled, title: str = "") -> dict:
+    """Every condition's stimuli and DKL adjustment ranges on the gamut in the DKL isoluminant plane: the spec
+    of :func:`stimlab.profiles.plane_figure.plane_spec`."""
     background = compiled.background
     points, segments = [], []
     for condition, stimuli in zip(compiled.data["conditions"], compiled.stimuli):
@@ -76,7 +81,7 @@ def plane_for(compiled) -> dict:
                 _, lm, s = background.LMS_to_space("dkl", np.array(entry.lms))
                 if abs(lm) < 1e-9 and abs(s) < 1e-9:
                     continue
-                points.append({"label": f"{name} ({condition['label']})", "lm": float(lm), "s": float(s),
+                points.append({"name": name, "condition": condition["label"], "lm": float(lm), "s": float(s),
                                "ok": entry.in_gamut})
     for condition, response in zip(compiled.data["conditions"], compiled.responses):
         if response is None or response.space != "dkl":
@@ -84,11 +89,10 @@ def plane_for(compiled) -> dict:
         for axis, (low, high) in zip(response.axes, response.axis_limits()):
             ends = [background.LMS_to_space("dkl", background.colour_to_LMS("dkl", response.base + p * axis))
                     for p in (low, high)]
-            segments.append({"label": f"{response.kind} of {response.target} ({condition['label']})",
-                             "from": (float(ends[0][1]), float(ends[0][2])), "to": (float(ends[1][1]),
-                                                                                   float(ends[1][2])),
-                             "ok": all(response.in_gamut)})
-    return dkl_plane_plot(background, points[:40], segments[:40])
+            segments.append({"name": f"{response.kind} range of {response.target}", "condition": condition["label"],
+                             "from": (float(ends[0][1]), float(ends[0][2])),
+                             "to": (float(ends[1][1]), float(ends[1][2])), "ok": all(response.in_gamut)})
+    return plane_spec(background, points, segments, title=title, equal_aspect=False)
 
 
 def _status(name: str, display_id):
@@ -193,9 +197,22 @@ def edit(name: str):
 def audit_fragment(protocol: dict, display_id: int) -> dict:
     report, compiled = run_audit(protocol, display_id)
     previews = frame_preview(compiled.data, 0)
-    html = render_template("_audit_panel.html", report=report, plane=plane_for(compiled), previews=previews,
-                           condition=compiled.data["conditions"][0]["label"])
+    # Only the plot's numbers are kept here (a small file named by their hash); the image is drawn when the page
+    # asks for it, once per content, so typing in the editor never waits for matplotlib.
+    spec = plane_for(compiled, title=f"Stimuli and ranges on the gamut of {report['display']['name']} "
+                                     "(DKL isoluminant plane)")
+    html = render_template("_audit_panel.html", report=report, plane_key=remember_spec(spec, figures_dir()),
+                           previews=previews, condition=compiled.data["conditions"][0]["label"])
     return {"passed": report["passed"], "counts": report["counts"], "report": report, "html": html}
+
+
+@blueprint.get("/protocols/figures/plane-<key>.<fmt>")
+def plane_figure(key: str, fmt: str):
+    """The live audit's gamut-plane plot, named by the hash of its numbers (kept by :func:`audit_fragment`)."""
+    spec = recall_spec(key, figures_dir())
+    if spec is None or spec.get("kind") != "gamut_plane":
+        raise NotFound("this plot is no longer kept; reload the protocol's page to audit it again")
+    return figure_response({"plane": spec}, "plane", fmt, f"gamut_plane_{key[:12]}", render_figure)
 
 
 # -- API ------------------------------------------------------------------------------------------------------

@@ -8,7 +8,6 @@ from flask import Blueprint, Response, g, render_template, request, stream_with_
 
 from ..errors import InputError
 from ..sessions.export import SESSION_FORMATS, STUDY_FORMATS, no_study_message, session_export, study_export, study_sessions
-from ..sessions.figures import FORMATS as FIGURE_FORMATS
 from ..sessions.figures import render, session_specs, study_specs
 from ..sessions.ingest import STATUSES, get_session, progress
 from ..sessions.store import safe_protocol_name
@@ -17,6 +16,7 @@ from ..sessions.summary import session_summary
 from . import current_store
 from .adjustments import check_before_saving, photometry_context
 from .errors import NotFound, WebError
+from .figures import figure_response
 
 blueprint = Blueprint("sessions", __name__)
 
@@ -140,14 +140,7 @@ def study_figure(name: str, figure: str, fmt: str):
 
 
 def _figure(specs: dict, figure: str, fmt: str, stem: str) -> Response:
-    if figure not in specs:
-        raise NotFound(f"there is no figure {figure!r} here; these are: {', '.join(specs) or 'none'}")
-    if fmt not in FIGURE_FORMATS:
-        raise NotFound(f"figures download as {' or '.join(FIGURE_FORMATS)}, not {fmt!r}")
-    data = render(specs[figure], fmt, current_store().root / "figures")
-    disposition = "attachment" if request.args.get("download") else "inline"
-    return Response(data, mimetype=FIGURE_FORMATS[fmt], headers={
-        "Content-Disposition": f'{disposition}; filename="{stem}.{fmt}"', "Cache-Control": "private, max-age=60"})
+    return figure_response(specs, figure, fmt, stem, render)
 
 
 @blueprint.get("/api/studies/<name>")
