@@ -13,6 +13,9 @@ from browser_support import Server
 from stimlab.profiles.demo import demo_file
 
 ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
+# every image matching a selector loaded and drawn (a server-drawn figure, not a broken link)
+DRAWN = "s => { const all = [...document.querySelectorAll(s)]; return all.length > 0 && " \
+        "all.every(i => i.complete && i.naturalWidth > 0); }"
 
 
 @pytest.fixture(scope="module")
@@ -42,7 +45,8 @@ def test_add_a_display_through_the_form(server, page, tmp_path):
     page.get_by_role("button", name="Build the profile").click()
     page.wait_for_url(re.compile(r".*/displays/\d+$"))  # the form is sent in the background, then the page opens
     assert page.get_by_role("heading", level=1).inner_text().startswith("Room C LCD")
-    assert page.locator("svg").count() >= 4
+    assert page.locator("figure.plot img").count() == 3  # transfer curves, gamut plane, MacLeod–Boynton
+    page.wait_for_function(DRAWN, arg="figure.plot img")
     shot(page, "display")
     page.goto(server["url"] + "/displays")
     assert page.get_by_role("link", name="Room C LCD").is_visible()
@@ -56,6 +60,8 @@ def test_edit_a_protocol_with_the_live_audit(server, page):
     verdict = page.locator("#audit-verdict")
     verdict.wait_for()
     assert verdict.inner_text().startswith("Passes")
+    page.wait_for_function(DRAWN, arg="#audit-panel figure.plot img")  # the gamut-plane plot
+    shot(page, "protocol_edit")
     contrast = page.locator('input[name="conditions.variables.axis.L-M[1]"]')
     for value in ("0.1", "0.15", "0.2"):  # raise the adapting L−M contrast step by step
         contrast.fill(value)

@@ -22,7 +22,22 @@ def test_list_and_page(client):
     assert page.status_code == 200
     for text in ("Transfer curves", "isoluminant plane", "MacLeod–Boynton", "122.86 cd/m²", "One digital level"):
         assert text in page.text
-    assert page.text.count("<svg") >= 4
+    for figure in ("transfer", "gamut", "macleod_boynton"):
+        assert f"/displays/1/figures/{figure}.svg?v=" in page.text and f"/displays/1/figures/{figure}.pdf" in page.text
+
+
+def test_display_figures_are_served_as_svg_and_pdf(client):
+    svg = client.get("/displays/1/figures/transfer.svg")
+    assert svg.status_code == 200 and svg.mimetype == "image/svg+xml"
+    assert "green: gog fit" in svg.text and "digital level (0–1023)" in svg.text
+    assert "spectrum locus (nm)" in client.get("/displays/1/figures/macleod_boynton.svg").text
+    pdf = client.get("/displays/1/figures/gamut.pdf?download=1")
+    assert pdf.data.startswith(b"%PDF") and pdf.headers["Content-Disposition"].startswith("attachment")
+    assert "Vale_Street_B12_LCD_v1_gamut.pdf" in pdf.headers["Content-Disposition"]
+    missing = client.get("/displays/1/figures/nothing.svg")
+    assert missing.status_code == 404 and "transfer, gamut, macleod_boynton" in missing.text
+    assert client.get("/displays/1/figures/transfer.png").status_code == 404
+    assert client.get("/displays/99/figures/transfer.svg").status_code == 404
 
 
 def test_add_a_display_through_the_form(client):

@@ -1,6 +1,7 @@
 """Protocol pages, the live audit API and saving back to the file."""
 
 import json
+import re
 
 
 def headers(client):
@@ -35,6 +36,24 @@ def test_live_audit_flags_out_of_gamut_and_names_bad_fields(client):
     error = client.post("/api/audit", json={"protocol": protocol}, headers=headers(client))
     assert error.status_code == 400
     assert error.get_json()["error"]["field"] == "conditions.variables.axis.L-M[1]"
+
+
+def test_live_audit_plots_the_plane_by_content_and_bounds_a_far_stimulus(client):
+    protocol = client.get("/api/protocols/afterimage_null.json").get_json()["protocol"]
+    html = client.post("/api/audit", json={"protocol": protocol}, headers=headers(client)).get_json()["html"]
+    url = re.search(r'src="(/protocols/figures/plane-[0-9a-f]{64}\.svg)', html).group(1)
+    svg = client.get(url)
+    assert svg.status_code == 200 and svg.mimetype == "image/svg+xml"
+    assert "adapter (axis=L-M, polarity=plus)" in svg.text and "DKL S (pooled cone contrast)" in svg.text
+    assert client.get(url.replace(".svg", ".pdf")).data.startswith(b"%PDF")
+    protocol["conditions"]["variables"]["axis"]["L-M"][1] = 0.8  # far outside the gamut (±0.16 along L−M)
+    html = client.post("/api/audit", json={"protocol": protocol}, headers=headers(client)).get_json()["html"]
+    far = re.search(r'src="(/protocols/figures/plane-[0-9a-f]{64}\.svg)', html).group(1)
+    assert far != url  # new numbers, a new plot
+    text = " ".join(client.get(far).text.split())
+    assert "outside the view, at L−M 0.8" in text and ">0.8<" not in text and ">0.6<" not in text  # not ±0.8
+    assert client.get("/protocols/figures/plane-" + "0" * 64 + ".svg").status_code == 404
+    assert client.get("/protocols/figures/plane-nothex.svg").status_code == 404
 
 
 def test_save_refuses_a_file_changed_on_disk(app, client):

@@ -141,6 +141,11 @@ def _edge(lm: float, s: float, view: dict) -> tuple[float, float]:
     return lm * scale, s * scale
 
 
+def _number(value: float, form: str = ".3g") -> str:
+    """A number as the axes write it, with a true minus sign."""
+    return format(value, form).replace("-", "−")
+
+
 def _wrap(text: str) -> str:
     return textwrap.fill(text, 44, subsequent_indent="   ")
 
@@ -162,8 +167,8 @@ def draw_plane(spec: dict, figure) -> None:
         ax.plot([lm_low, lm_high], [0, 0], color="0.45", lw=1, ls="--")
         ax.plot([0, 0], [s_low, s_high], color="0.45", lw=1, ls="--")
         ax.plot([lm_low, lm_high, 0, 0], [0, 0, s_low, s_high], "D", color="0.3", ms=4,
-                label=_wrap(f"headroom along the axes: L−M {lm_low:+.3f} to {lm_high:+.3f}, "
-                            f"S {s_low:+.3f} to {s_high:+.3f}"))
+                label=_wrap(f"headroom along the axes: L−M {_number(lm_low, '+.3f')} to "
+                            f"{_number(lm_high, '+.3f')}, S {_number(s_low, '+.3f')} to {_number(s_high, '+.3f')}"))
     number = 0
     for index, seg in enumerate(spec["segments"]):
         number += 1
@@ -190,8 +195,8 @@ def draw_plane(spec: dict, figure) -> None:
             ax.annotate(str(number), (x, y), xytext=(-30 * direction[0], -30 * direction[1] - 3),
                         textcoords="offset points", fontsize=7, color=colour, ha="center")
             ax.plot([], [], marker=r"$\rightarrow$", ms=9, ls="none", color=colour,
-                    label=_wrap(f"{number}  {point['label']}{status}: outside the view, at L−M {point['lm']:.3g}, "
-                                f"S {point['s']:.3g}"))
+                    label=_wrap(f"{number}  {point['label']}{status}: outside the view, at L−M {_number(point['lm'])}, "
+                                f"S {_number(point['s'])}"))
         else:
             ax.plot([point["lm"]], [point["s"]], marker=marker, ms=6, ls="none", color=colour, mec="white", mew=0.6,
                     label=_wrap(f"{number}  {point['label']}{status}"))
