@@ -57,12 +57,12 @@ class Compiled:
 
     @property
     def stimuli(self) -> list:
-        """``[condition][name]`` → :class:`~stimlab.experiment.compiled.CompiledStimulus`."""
+        """``[condition][name]`` → :class:`~stimlab.experiment.compiled.CompiledStimulus`, conditions in order."""
         return [c.stimuli for c in self.conditions]
 
     @property
     def responses(self) -> list:
-        """``[condition]`` → :class:`~stimlab.experiment.compiled.CompiledResponse` or ``None``."""
+        """``[condition]`` → :class:`~stimlab.experiment.compiled.CompiledResponse`, or ``None`` without a response."""
         return [c.response for c in self.conditions]
 
 
@@ -96,6 +96,18 @@ def _modulation_extremes(stimulus: dict) -> tuple[float, ...]:
 
 
 def needs_modulation_table(stimulus: dict) -> bool:
+    """Whether a stimulus needs a 511-entry modulation table rather than one colour.
+
+    Parameters
+    ----------
+    stimulus
+        A protocol stimulus entry (``shape`` and optional ``time_course``).
+
+    Returns
+    -------
+    bool
+        Truthy for flicker, a ramp on or off, or a per-pixel shape (``gaussian``, ``grating``); falsy otherwise.
+    """
     course = stimulus.get("time_course", {"kind": "steady"})
     return (course["kind"] != "steady" or course.get("ramp_on_ms") or course.get("ramp_off_ms")
             or stimulus["shape"] in ("grating", "gaussian"))

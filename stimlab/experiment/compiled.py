@@ -30,6 +30,7 @@ class CompiledColour:
     modulation_table: list | None = None
 
     def to_json(self) -> dict:
+        """The colour as the runner receives it (LMS, cone contrast, linear RGB, device levels 0–255 or wider)."""
         entry = {"lms": self.lms, "cone_contrast": self.cone_contrast, "rgb_linear": self.rgb_linear,
                  "device": self.device, "extremes": self.extremes, "in_gamut": self.in_gamut}
         if self.modulation_table is not None:
@@ -49,10 +50,11 @@ class CompiledStimulus:
     second_colour: CompiledColour | None = None
 
     def colours(self) -> dict:
-        """``{"colour": …, "second_colour": …}`` for the colours this stimulus has."""
+        """``{"colour": …, "second_colour": …}`` for the colours this stimulus has (absent ones left out)."""
         return {k: c for k, c in (("colour", self.colour), ("second_colour", self.second_colour)) if c is not None}
 
     def to_json(self) -> dict:
+        """The stimulus as the runner receives it: name, pixel geometry, time course in frames and its colours."""
         entry = {"name": self.name, "geometry": self.geometry, "time_course": self.time_course}
         entry.update({k: c.to_json() for k, c in self.colours().items()})
         return entry
@@ -97,12 +99,13 @@ class CompiledResponse:
     reachable: np.ndarray | None = None
 
     def axis_limits(self) -> np.ndarray:
-        """``[low, high]`` per direction, shape (d, 2): the protocol's own per-direction limits, or the ladder's."""
+        """``[low, high]`` per direction in axis units, shape (d, 2): the protocol's own limits, or the ladder's."""
         if self.limits is not None:
             return np.asarray(self.limits, dtype=float)
         return np.array([[self.positions[0], self.positions[-1]]] * len(self.axes))
 
     def to_json(self) -> dict:
+        """The response as the runner receives it: axes, ladder fields, device levels per position, gamut flags."""
         return {"kind": self.kind, "target": self.target, "space": self.space, "axes": self.axes.tolist(),
                 **self.fields, "device": self.device, "in_gamut": self.in_gamut}
 
@@ -118,6 +121,7 @@ class CompiledCondition:
     response: CompiledResponse | None = None
 
     def to_json(self) -> dict:
+        """The condition as the runner receives it: index, labels, stimuli by name and response (or ``None``)."""
         return {"index": self.index, "label": self.label, "labels": self.labels,
                 "stimuli": {n: s.to_json() for n, s in self.stimuli.items()},
                 "response": self.response.to_json() if self.response else None}

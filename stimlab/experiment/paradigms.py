@@ -32,12 +32,32 @@ def _templates() -> dict[str, dict]:
 
 
 def paradigms() -> list[dict]:
-    """The templates as ``{"key", "title", "summary"}``, in file-name order."""
+    """The templates as ``{"key", "title", "summary"}``, in file-name order.
+
+    Returns
+    -------
+    list of dict
+        One entry per ``stimlab/data/paradigms/*.json``; ``key`` is the file name without ``.json``.
+    """
     return [{"key": key, **data["paradigm"]} for key, data in _templates().items()]
 
 
 def paradigm_protocol(key: str, title: str | None = None, seed: int | None = None) -> dict:
     """A fresh protocol from template ``key``, with its own title and a new random seed (recorded in the file).
+
+    Parameters
+    ----------
+    key
+        A template key from :func:`paradigms`.
+    title
+        The new protocol's title, or ``None`` (or empty) to keep the template's.
+    seed
+        The condition-order seed, or ``None`` for a random one from 0 to 999,999.
+
+    Returns
+    -------
+    dict
+        A deep copy of the template's protocol, valid against the protocol schema.
 
     Raises
     ------

@@ -23,6 +23,7 @@ import json
 import math
 
 import numpy as np
+from numpy.typing import NDArray
 
 from .timecourse import STEPS, course_plan
 
@@ -38,10 +39,23 @@ PLAN_RULE = "stimlab-frames-1"
 def patch_profile(geometry: dict) -> dict:
     """The whole-number spatial profile of a Gaussian blob or grating (see the module docstring).
 
+    Parameters
+    ----------
+    geometry
+        Compiled geometry: ``sigma_px`` (Gaussian σ, pixels, > 0); for a grating also ``cycles_per_px``
+        (spatial frequency, cycles per pixel) and ``orientation_deg`` (degrees anticlockwise from horizontal).
+
     Returns
     -------
     dict
-        ``{"half": h, "values": [...]}``: ``(2h + 1)²`` values row by row from the top, ``None`` outside the patch.
+        ``{"half": h, "values": [...]}``: ``(2h + 1)²`` values row by row from the top, ``None`` outside the patch;
+        ``h = ceil(2σ)`` pixels, values from −16384 to 16384 (:data:`PROFILE_SCALE`).
+
+    Examples
+    --------
+    >>> profile = patch_profile({"sigma_px": 1})
+    >>> profile["half"], profile["values"][4 * 5 // 2 + 2]
+    (2, 16384)
     """
     sigma = float(geometry["sigma_px"])
     half = math.ceil(2 * sigma)
@@ -59,8 +73,25 @@ def patch_profile(geometry: dict) -> dict:
     return {"half": half, "values": [int(v) if ok else None for v, ok in zip(values.ravel(), inside.ravel())]}
 
 
-def patch_indices(profile: dict, step: int, ladder_position: int | None = None, ladder_size: int | None = None):
-    """Table indices of every patch pixel at modulation ``step`` (−1 outside the patch), shape (2h+1, 2h+1)."""
+def patch_indices(profile: dict, step: int, ladder_position: int | None = None,
+                  ladder_size: int | None = None) -> NDArray[np.int64]:
+    """Table indices of every patch pixel at modulation ``step`` (−1 outside the patch), shape (2h+1, 2h+1).
+
+    Parameters
+    ----------
+    profile
+        A profile from :func:`patch_profile`.
+    step
+        Time-course step, −255 to 255.
+    ladder_position, ladder_size
+        For a staircase target: its position on the ladder (0 to ``ladder_size − 1``) and the ladder's length
+        (entries); ``None`` for the stimulus's own 511-entry modulation table.
+
+    Returns
+    -------
+    NDArray[np.int64]
+        Rows from the top, columns from the left: 0 to 510 (or to ``ladder_size − 1``), −1 outside the patch.
+    """
     size = 2 * profile["half"] + 1
     values = np.array([v if v is not None else 0 for v in profile["values"]], dtype=np.int64).reshape(size, size)
     inside = np.array([v is not None for v in profile["values"]]).reshape(size, size)
@@ -84,7 +115,13 @@ def build_plan(stimuli: dict, schedules: dict, refresh_hz: float) -> dict:
     schedules
         The compiled schedules; each phase gets ``"courses"``, one index into the plan's ``courses`` per stimulus.
     refresh_hz
-        The display's refresh rate (Hz).
+        The display's refresh rate (Hz, > 0).
+
+    Returns
+    -------
+    dict
+        ``rule`` (:data:`PLAN_RULE`), ``steps`` (255), ``profile_scale``, ``courses`` (course plans from
+        :func:`~stimlab.experiment.timecourse.course_plan`, each once) and ``patches`` (profiles by stimulus name).
     """
     courses: list = []
     seen: dict = {}
@@ -107,7 +144,24 @@ def build_plan(stimuli: dict, schedules: dict, refresh_hz: float) -> dict:
 
 
 def plan_sha256(data: dict) -> str:
-    """SHA-256 of everything in compiled data that fixes what is on screen at any frame (canonical JSON)."""
+    """SHA-256 of everything in compiled data that fixes what is on screen at any frame (canonical JSON).
+
+    Parameters
+    ----------
+    data
+        Compiled protocol data (its ``display``, ``background``, ``fixation``, ``schedules``, ``conditions``,
+        ``trials`` and ``plan`` are hashed; missing keys count as ``null``).
+
+    Returns
+    -------
+    str
+        64 lowercase hexadecimal digits.
+
+    Raises
+    ------
+    ValueError
+        If the data hold NaN or infinity (not valid JSON).
+    """
     keys = ("display", "background", "fixation", "schedules", "conditions", "trials", "plan")
     text = json.dumps({k: data.get(k) for k in keys}, sort_keys=True, separators=(",", ":"), allow_nan=False)
     return hashlib.sha256(text.encode()).hexdigest()

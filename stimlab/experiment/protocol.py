@@ -26,17 +26,40 @@ CAUTION = ("Flicker and flashing can trigger seizures in people with photosensit
 
 
 def protocol_schema() -> dict:
-    """The JSON Schema document for protocol files (``stimlab/data/protocol.schema.json``)."""
+    """The JSON Schema document for protocol files (``stimlab/data/protocol.schema.json``).
+
+    Returns
+    -------
+    dict
+        The schema (JSON Schema draft 2020-12), shared and cached: do not modify it.
+
+    References
+    ----------
+    .. [1] JSON Schema: A Media Type for Describing JSON Documents, draft 2020-12, https://json-schema.org/.
+    """
     return schema("protocol")
 
 
 def validate_protocol(data, name: str = "protocol") -> dict:
     """Check a protocol against the schema and its own references; return it unchanged when it is valid.
 
+    Parameters
+    ----------
+    data
+        The parsed protocol (any JSON value; anything but a valid protocol object is refused).
+    name
+        The file or form name given in errors.
+
+    Returns
+    -------
+    dict
+        ``data`` itself.
+
     Raises
     ------
     InputError
-        For the first problem, with ``field`` its JSON path.
+        For the first problem, with ``field`` its JSON path: schema errors, unknown names or variables, more
+        than 1,000 conditions or 20,000 trials.
     """
     check_value(data, file=name)  # NaN, Infinity, lone surrogates and runaway nesting, before the schema
     _check_lengths(data, name)
@@ -231,12 +254,46 @@ def _check_response(response: dict, names: dict, variables: dict, fail, *path) -
 
 
 def parse_protocol(text: str, name: str = "protocol") -> dict:
-    """Parse and validate protocol JSON text."""
+    """Parse and validate protocol JSON text.
+
+    Parameters
+    ----------
+    text
+        The protocol as JSON text.
+    name
+        The file or form name given in errors.
+
+    Returns
+    -------
+    dict
+        The valid protocol.
+
+    Raises
+    ------
+    InputError
+        For text that is not JSON or a protocol that is not valid (see :func:`validate_protocol`).
+    """
     return validate_protocol(loads(text, file=name), name)
 
 
 def load_protocol(path) -> dict:
-    """Read and validate a protocol file."""
+    """Read and validate a protocol file.
+
+    Parameters
+    ----------
+    path
+        Path of a UTF-8 JSON protocol file (``str`` or :class:`~pathlib.Path`).
+
+    Returns
+    -------
+    dict
+        The valid protocol.
+
+    Raises
+    ------
+    InputError
+        For a missing or non-UTF-8 file, or a protocol that is not valid (see :func:`parse_protocol`).
+    """
     path = Path(path)
     if not path.is_file():
         raise InputError("protocol file not found; check the path", file=str(path))
@@ -248,13 +305,30 @@ def load_protocol(path) -> dict:
 
 
 def protocol_sha256(data: dict) -> str:
-    """sha256 of a protocol's canonical JSON, cited by compiled sessions."""
+    """SHA-256 of a protocol's canonical JSON (sorted keys, no spaces), cited by compiled sessions.
+
+    Parameters
+    ----------
+    data
+        A protocol (JSON-able values).
+
+    Returns
+    -------
+    str
+        64 lowercase hexadecimal digits.
+    """
     return hashlib.sha256(json.dumps(data, sort_keys=True, separators=(",", ":")).encode()).hexdigest()
 
 
 @lru_cache(maxsize=1)
 def schema_enums() -> dict[str, tuple]:
-    """Allowed values of every enumerated protocol field, by index-free path (``stimuli.time_course.kind``)."""
+    """Allowed values of every enumerated protocol field, by index-free path (``stimuli.time_course.kind``).
+
+    Returns
+    -------
+    dict of str to tuple
+        The schema's ``enum`` lists by dotted path, cached.
+    """
     schema = protocol_schema()
     found: dict[str, tuple] = {}
 
@@ -281,7 +355,18 @@ def schema_enums() -> dict[str, tuple]:
 
 
 def enum_for(path: str) -> tuple | None:
-    """The allowed values for the field at a JSON path (indices ignored), or None."""
+    """The allowed values for the field at a JSON path (indices ignored), or None.
+
+    Parameters
+    ----------
+    path
+        A JSON path such as ``stimuli[2].time_course.kind``.
+
+    Returns
+    -------
+    tuple or None
+        The field's allowed values, or ``None`` when the field is not enumerated.
+    """
     import re
 
     return schema_enums().get(re.sub(r"\[\d+\]", "", path))

@@ -10,6 +10,7 @@ runner does no colour maths.
 from __future__ import annotations
 
 import numpy as np
+from numpy.typing import NDArray
 
 from ..colorimetry.device import RGB_linear_to_device_or_none
 from ..colorimetry.stimulus import Background
@@ -21,8 +22,33 @@ __all__ = ["compile_response", "ladder"]
 MAX_POSITIONS = 250_000
 
 
-def ladder(low: float, high: float, step: float, where: str) -> np.ndarray:
-    """Positions ``low, low + step, …`` up to ``high`` (inclusive within rounding)."""
+def ladder(low: float, high: float, step: float, where: str) -> NDArray[np.float64]:
+    """Positions ``low, low + step, …`` up to ``high`` (inclusive within rounding).
+
+    Parameters
+    ----------
+    low, high
+        The limits, in the response space's axis units (cone contrast or DKL), ``low ≤ high``.
+    step
+        The smallest step, in the same units (> 0).
+    where
+        JSON path of the step's field, named in the error.
+
+    Returns
+    -------
+    NDArray[np.float64]
+        The positions, shape (n,), 1 ≤ n ≤ 20,000.
+
+    Raises
+    ------
+    InputError
+        If more than 20,000 positions would result.
+
+    Examples
+    --------
+    >>> ladder(-0.1, 0.1, 0.05, "step_fine")
+    array([-0.1 , -0.05,  0.  ,  0.05,  0.1 ])
+    """
     count = int(np.floor((high - low) / step + 1e-9)) + 1
     if count > 20_000:
         raise InputError(f"{count} positions between the limits at this step; use a larger fine step or narrower "
@@ -38,7 +64,34 @@ def _table(background: Background, LMS: np.ndarray):
 
 def compile_response(response: dict, stimuli: dict, background: Background, where: str,
                      values: dict | None = None) -> CompiledResponse:
-    """Compile an adjustment or staircase response for one condition (``values``: the condition's variables)."""
+    """Compile an adjustment or staircase response for one condition (``values``: the condition's variables).
+
+    Parameters
+    ----------
+    response
+        The validated ``response`` of a respond phase: ``method`` (``adjustment`` or ``staircase``), ``target``,
+        ``space`` (``cone_contrast`` or ``dkl``), ``axis`` or ``plane``, ``limits``, ``step_fine`` / ``steps`` and
+        ``start``, all positions in the space's axis units.
+    stimuli
+        This condition's :class:`~stimlab.experiment.compiled.CompiledStimulus` by name.
+    background
+        The adapted background the colours are relative to.
+    where
+        JSON path of the response, named in errors.
+    values
+        The condition's variable values by name (for ``"$name"`` references), or ``None``.
+
+    Returns
+    -------
+    CompiledResponse
+        The ladder with linear RGB, device levels (``None`` outside the gamut or the limits) and log maps.
+
+    Raises
+    ------
+    InputError
+        For an all-zero axis, too many positions (20,000 on a line, 250,000 in a plane), a ``start`` of the wrong
+        length or, for a staircase, outside the limits.
+    """
     values = values or {}
     if isinstance(response.get("axis"), (str, list)):
         axis = response["axis"]

@@ -28,6 +28,7 @@ import math
 from fractions import Fraction
 
 import numpy as np
+from numpy.typing import NDArray
 
 __all__ = ["DROPPED_FRAME_PERIODS", "STEPS", "phase_frames", "square_period_frames", "shown_frequency_hz",
            "course_plan", "steps_at", "steps_for_phase"]
@@ -54,6 +55,18 @@ def _round_half_up(x):
 def phase_frames(seconds: float, refresh_hz: float) -> int:
     """Whole frames a phase of ``seconds`` (s, ≥ 0) lasts at ``refresh_hz`` (Hz): ``floor(s·R + ½)``, at least 1.
 
+    Parameters
+    ----------
+    seconds
+        Phase duration (s); 0 or less gives 0 frames.
+    refresh_hz
+        Display refresh rate (Hz, > 0).
+
+    Returns
+    -------
+    int
+        Frames (≥ 1 when ``seconds > 0``), by exact rational arithmetic on the decimal values.
+
     Examples
     --------
     >>> phase_frames(0.26, 60), phase_frames(0.003, 120), phase_frames(0, 60)
@@ -66,6 +79,18 @@ def phase_frames(seconds: float, refresh_hz: float) -> int:
 
 def square_period_frames(frequency_hz: float, refresh_hz: float) -> int:
     """Whole frames in one period of square flicker: ``max(2, floor(R/f + ½))``.
+
+    Parameters
+    ----------
+    frequency_hz
+        Requested flicker frequency (Hz, > 0).
+    refresh_hz
+        Display refresh rate (Hz, > 0).
+
+    Returns
+    -------
+    int
+        Period in frames (≥ 2); the first ``ceil(N/2)`` frames are on.
 
     Examples
     --------
@@ -81,7 +106,25 @@ def _sine_period(frequency_hz: float, refresh_hz: float) -> tuple[int, int]:
 
 
 def shown_frequency_hz(course: dict, refresh_hz: float) -> float | None:
-    """The frequency (Hz) the frames actually show for a course, or ``None`` for a steady one."""
+    """The frequency (Hz) the frames actually show for a course, or ``None`` for a steady one.
+
+    Parameters
+    ----------
+    course
+        A compiled time course: ``kind`` (``steady``, ``square``, ``sine``, ``counterphase``) and ``frequency_hz``.
+    refresh_hz
+        Display refresh rate (Hz, > 0).
+
+    Returns
+    -------
+    float or None
+        ``R/N`` Hz for square flicker of ``N`` frames, ``R·n/D`` Hz for sine (``f/R ≈ n/D``, ``D`` ≤ 10⁶ frames).
+
+    Examples
+    --------
+    >>> shown_frequency_hz({"kind": "square", "frequency_hz": 13}, 60)
+    12.0
+    """
     kind = course.get("kind", "steady")
     if kind == "steady":
         return None
@@ -112,6 +155,16 @@ def _ramp_frames(milliseconds, refresh_hz) -> int:
 
 def course_plan(course: dict, refresh_hz: float, frames: int | None) -> dict:
     """The steps of a time course in a phase of ``frames`` frames (``None``: open-ended, e.g. a respond phase).
+
+    Parameters
+    ----------
+    course
+        A compiled time course: ``kind``, ``frequency_hz`` (Hz), optional ``mode`` (``on_off``) and ramps
+        ``ramp_on_ms`` / ``ramp_off_ms`` (ms, ≥ 0).
+    refresh_hz
+        Display refresh rate (Hz, > 0).
+    frames
+        Frames in the phase (≥ 0), or ``None`` when open-ended (no ramp off then).
 
     Returns
     -------
@@ -144,7 +197,28 @@ def course_plan(course: dict, refresh_hz: float, frames: int | None) -> dict:
 
 
 def steps_at(plan: dict, frame: int, frames: int | None) -> int:
-    """The step shown at ``frame`` (0-based, within the phase) of a phase of ``frames`` frames: the runner's lookup."""
+    """The step shown at ``frame`` (0-based, within the phase) of a phase of ``frames`` frames: the runner's lookup.
+
+    Parameters
+    ----------
+    plan
+        A course plan from :func:`course_plan`.
+    frame
+        Frame index within the phase (0 to ``frames − 1``).
+    frames
+        Frames in the phase, or ``None`` when open-ended.
+
+    Returns
+    -------
+    int
+        Step from −255 to 255.
+
+    Examples
+    --------
+    >>> plan = course_plan({"kind": "square", "frequency_hz": 12}, 60, 10)
+    >>> [steps_at(plan, k, 10) for k in range(5)]
+    [255, 255, 255, -255, -255]
+    """
     head, tail, cycle = plan["head"], plan["tail"], plan["cycle"]
     if frame < len(head):
         return head[frame]
@@ -153,8 +227,21 @@ def steps_at(plan: dict, frame: int, frames: int | None) -> int:
     return cycle[frame % len(cycle)]
 
 
-def steps_for_phase(plan: dict, frames: int) -> np.ndarray:
-    """The steps of every frame of a phase of ``frames`` frames, as :func:`steps_at` gives them one by one."""
+def steps_for_phase(plan: dict, frames: int) -> NDArray[np.int_]:
+    """The steps of every frame of a phase of ``frames`` frames, as :func:`steps_at` gives them one by one.
+
+    Parameters
+    ----------
+    plan
+        A course plan from :func:`course_plan`.
+    frames
+        Frames in the phase (≥ 0).
+
+    Returns
+    -------
+    NDArray[np.int_]
+        Steps from −255 to 255, shape ``(frames,)``.
+    """
     cycle = np.asarray(plan["cycle"], dtype=int)
     out = cycle[np.arange(frames) % cycle.size]
     head = np.asarray(plan["head"], dtype=int)[:frames]
