@@ -49,12 +49,44 @@ class Item:
 
 
 def schedule_of(data: dict, trial: dict, first_in_run: bool = False) -> str:
-    """Which schedule a trial uses: the first trial of a run (or after a pause) adapts fully."""
+    """Which schedule a trial uses: the first trial of a run (or after a pause) adapts fully.
+
+    Parameters
+    ----------
+    data
+        Compiled data (unused; kept for a uniform call).
+    trial
+        A compiled trial (its ``schedule``).
+    first_in_run
+        Whether the trial starts a run or follows a pause.
+
+    Returns
+    -------
+    str
+        ``"first"`` or ``"repeat"``.
+    """
     return "first" if first_in_run or trial["schedule"] == "first" else "repeat"
 
 
 def trial_frames(data: dict, trial: dict, phase_index: int, first_in_run: bool = False) -> dict:
-    """The schedule's phase entry for a trial."""
+    """The schedule's phase entry for a trial.
+
+    Parameters
+    ----------
+    data
+        Compiled data with its schedules.
+    trial
+        A compiled trial.
+    phase_index
+        The phase's index in the schedule (0-based).
+    first_in_run
+        Whether the trial starts a run (see :func:`schedule_of`).
+
+    Returns
+    -------
+    dict
+        The phase: ``phase``, ``frames`` (whole frames, or ``None`` when open-ended), ``stimuli`` and ``courses``.
+    """
     return data["schedules"][schedule_of(data, trial, first_in_run)][phase_index]
 
 
@@ -67,7 +99,24 @@ def _start_position(response: dict, trial: dict):
 
 
 def frame_items(data: dict, trial: dict, phase: dict, *, ladder: int | None = None) -> list[Item]:
-    """The stimuli of a phase of a trial in drawing order (``ladder``: an adjustment's position, default its start)."""
+    """The stimuli of a phase of a trial in drawing order (``ladder``: an adjustment's position, default its start).
+
+    Parameters
+    ----------
+    data
+        Compiled data with its frame plan.
+    trial
+        A compiled trial (``condition``, optional ``target_side`` and ``start``).
+    phase
+        The trial's phase entry (see :func:`trial_frames`).
+    ladder
+        Ladder entry shown by the response's target (0 to the ladder's size − 1), or ``None`` for the trial's start.
+
+    Returns
+    -------
+    list of Item
+        Later items are drawn on top; positions in pixels from the screen centre, y up.
+    """
     condition = data["conditions"][trial["condition"]]
     response = condition["response"]
     items = []
@@ -92,7 +141,21 @@ def _levels(levels) -> tuple:
 def region_levels(item: Item, region: str, step: int, profile_value: int | None = None) -> tuple:
     """Device levels (``(-1, -1, -1)`` out of gamut) of one region of an item at a modulation step.
 
-    ``profile_value`` is a patch pixel's whole-number profile value (Gaussian blobs and gratings).
+    Parameters
+    ----------
+    item
+        An item from :func:`frame_items`.
+    region
+        ``"colour"`` or ``"second_colour"``.
+    step
+        The item's time-course step this frame, −255 to 255.
+    profile_value
+        A patch pixel's whole-number profile value (Gaussian blobs and gratings, −16384 to 16384), else ``None``.
+
+    Returns
+    -------
+    tuple of int
+        Device levels (R, G, B), or ``(-1, -1, -1)`` out of gamut.
     """
     stimulus, response = item.stimulus, item.response
     if response is not None and region == "second_colour":  # a ladder sets the first colour only
@@ -138,7 +201,24 @@ def _grid(size_px, columns, rows):
 
 
 def phase_regions(data: dict, items: list[Item], fixation: bool, columns=None, rows=None) -> Regions:
-    """The region shown at every sample (pixel columns × rows, default all) for a phase's items."""
+    """The region shown at every sample (pixel columns × rows, default all) for a phase's items.
+
+    Parameters
+    ----------
+    data
+        Compiled data (``display.size_px`` and ``fixation``).
+    items
+        The phase's items in drawing order (see :func:`frame_items`).
+    fixation
+        Whether the fixation mark is drawn in this phase.
+    columns, rows
+        Pixel columns (0 to width − 1, from the left) and rows (0 to height − 1, from the top) to sample.
+
+    Returns
+    -------
+    Regions
+        Labels of shape (rows, columns) indexing the region keys, and the edge mask.
+    """
     columns, rows, X, Y = _grid(data["display"]["size_px"], columns, rows)
     shape = (rows.size, columns.size)
     keys: list = [("background",)]
@@ -216,7 +296,24 @@ def phase_regions(data: dict, items: list[Item], fixation: bool, columns=None, r
 
 
 def key_levels(data: dict, items: list[Item], key: tuple, steps: list[int]) -> tuple:
-    """Device levels of one region key given each item's step this frame."""
+    """Device levels of one region key given each item's step this frame.
+
+    Parameters
+    ----------
+    data
+        Compiled data (background and fixation device levels).
+    items
+        The phase's items.
+    key
+        A region key of :class:`Regions`.
+    steps
+        Each item's step this frame, −255 to 255.
+
+    Returns
+    -------
+    tuple of int
+        Device levels (R, G, B), or ``(-1, -1, -1)`` out of gamut.
+    """
     if key[0] == "background":
         return tuple(data["background"]["device"])
     if key[0] == "fixation":
@@ -256,8 +353,17 @@ def render_frame(data: dict, trial_index: int, phase_index: int, frame: int, *, 
 
 def render_frames(data: dict, trial_index: int, phase_index: int, frames, *, columns=None, rows=None,
                   first_in_run: bool | None = None, ladder: int | None = None):
-    """:func:`render_frame` for several frames of one phase, drawing the phase's regions once; yields
-    ``(levels, edges)`` per frame."""
+    """:func:`render_frame` for several frames of one phase, drawing the phase's regions once.
+
+    Parameters are those of :func:`render_frame`, with ``frames`` an iterable of frame indices within the phase.
+
+    Yields
+    ------
+    levels : NDArray[np.int_], shape (rows, columns, 3)
+        Device levels; −1 where a colour is out of gamut.
+    edges : NDArray[np.bool_], shape (rows, columns)
+        Pixels an anti-aliased outline may blend.
+    """
     trial = data["trials"][trial_index]
     phase = trial_frames(data, trial, phase_index, trial_index == 0 if first_in_run is None else first_in_run)
     items = frame_items(data, trial, phase, ladder=ladder)

@@ -51,8 +51,28 @@ def _key_name(key: str) -> str:
 def response_keys(response: dict | None) -> dict | None:
     """The keys a response takes, with defaults filled in, and a legend in the participant's words.
 
-    Returns ``{"method", "keys", "confirm", "coarse", "moves", "legend"}``: ``moves`` maps each adjustment key to
-    ``[axis, sign]``; ``legend`` is a list of ``[keys shown, what they do]``. ``None`` without a response phase.
+    Parameters
+    ----------
+    response
+        A protocol respond phase's ``response`` (``method``, optional ``keys``, ``confirm_keys``, ``coarse_key``),
+        or ``None``. Keys are DOM ``KeyboardEvent.key`` values.
+
+    Returns
+    -------
+    dict or None
+        ``{"method", "keys", "confirm", "coarse", "moves", "legend"}``: ``moves`` maps each adjustment key to
+        ``[direction index (0 or 1), sign (+1 or −1)]``; ``legend`` is a list of ``[keys shown, what they do]``.
+        ``None`` without a response phase.
+
+    Raises
+    ------
+    InputError
+        For an adjustment without 2 keys (on an axis) or 4 (in a plane), or a 2AFC or yes–no task with fewer than 2.
+
+    Examples
+    --------
+    >>> response_keys({"method": "yes_no"})["keys"]
+    ['y', 'n']
     """
     if response is None:
         return None
@@ -98,7 +118,18 @@ def response_keys(response: dict | None) -> dict | None:
 
 
 def key_collisions(keys: dict | None) -> list[str]:
-    """Messages for keys that mean two things, or that the runner keeps for itself."""
+    """Messages for keys that mean two things, or that the runner keeps for itself.
+
+    Parameters
+    ----------
+    keys
+        The result of :func:`response_keys`, or ``None``.
+
+    Returns
+    -------
+    list of str
+        One message per clash or reserved key (:data:`RESERVED_KEYS`); empty when there is none.
+    """
     if keys is None:
         return []
     roles: dict[str, list[str]] = {}
@@ -122,6 +153,23 @@ def scale_durations(protocol: dict, factor: float) -> dict:
 
     Phase durations, top-ups, response time-outs, the pre-adaptation, practice adaptation and minimum breaks are
     scaled; flicker frequencies and ramps are not (they shape the stimulus, not the session).
+
+    Parameters
+    ----------
+    protocol
+        A valid protocol; it is not modified.
+    factor
+        The duration factor, 0 < ``factor`` ≤ 1.
+
+    Returns
+    -------
+    dict
+        The scaled copy, with ``session.pre_adaptation_s`` always set (seconds).
+
+    Raises
+    ------
+    InputError
+        For a factor that is not a number in (0, 1].
     """
     if not (isinstance(factor, (int, float)) and 0 < factor <= 1):
         raise InputError("the dry-run duration factor must be a number above 0 and at most 1", field="dry_run_factor")
@@ -188,6 +236,21 @@ def add_screens(compiled, protocol: dict, rng) -> None:
 
     Practice trials come first, flagged ``"practice": true`` (block −1, their own ``practice`` schedule); every
     trial keeps ``"practice"`` so that logs and exports can tell them apart. Trial indices are renumbered in order.
+
+    Parameters
+    ----------
+    compiled
+        The :class:`~stimlab.experiment.compile.Compiled` protocol; its ``data`` is changed in place (durations
+        in whole frames at the display's refresh rate, text colour in device levels).
+    protocol
+        The protocol it was compiled from (its ``session`` settings).
+    rng
+        A :class:`numpy.random.Generator` for practice trials' adjustment starts.
+
+    Raises
+    ------
+    InputError
+        For bad response keys (see :func:`response_keys`) or a practice condition label that matches no condition.
     """
     data = compiled.data
     spec = protocol.get("session", {})
