@@ -8,6 +8,7 @@ from dataclasses import dataclass, field
 from typing import Any, Callable
 
 import numpy as np
+from numpy.typing import NDArray
 
 __all__ = ["CompiledColour", "CompiledStimulus", "CompiledResponse", "CompiledCondition"]
 
@@ -98,7 +99,7 @@ class CompiledResponse:
     limits: np.ndarray | None = None
     reachable: np.ndarray | None = None
 
-    def axis_limits(self) -> np.ndarray:
+    def axis_limits(self) -> NDArray[np.float64]:
         """``[low, high]`` per direction in axis units, shape (d, 2): the protocol's own limits, or the ladder's."""
         if self.limits is not None:
             return np.asarray(self.limits, dtype=float)

@@ -24,6 +24,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+from numpy.typing import NDArray
 
 from .plan import patch_indices
 from .timecourse import STEPS, steps_at
@@ -323,7 +324,8 @@ def key_levels(data: dict, items: list[Item], key: tuple, steps: list[int]) -> t
 
 
 def render_frame(data: dict, trial_index: int, phase_index: int, frame: int, *, columns=None, rows=None,
-                 first_in_run: bool | None = None, ladder: int | None = None) -> tuple[np.ndarray, np.ndarray]:
+                 first_in_run: bool | None = None,
+                 ladder: int | None = None) -> tuple[NDArray[np.int_], NDArray[np.bool_]]:
     """Device levels of every sample of one frame, and the edge mask (see the module docstring).
 
     Parameters

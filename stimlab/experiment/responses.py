@@ -91,6 +91,13 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
     InputError
         For an all-zero axis, too many positions (20,000 on a line, 250,000 in a plane), a ``start`` of the wrong
         length or, for a staircase, outside the limits.
+
+    References
+    ----------
+    .. [1] Derrington, A. M., Krauskopf, J. & Lennie, P. (1984). Chromatic mechanisms in lateral geniculate
+       nucleus of macaque. J. Physiol. 357, 241–265 (the DKL space).
+    .. [2] Levitt, H. (1971). Transformed up-down methods in psychoacoustics. J. Acoust. Soc. Am. 49, 467–477
+       (the staircase rule, e.g. 1 up / 2 down).
     """
     values = values or {}
     if isinstance(response.get("axis"), (str, list)):
