@@ -46,7 +46,7 @@ FIELD_HALF_ANGLE = np.radians(5.0)
 def _class_runs(compiled, sequence, phase_signals: dict):
     """Per class: (device levels per run (n, 3), first frame of each run in the sequence)."""
     data = compiled.data
-    levels_by_class = [[] for _ in sequence.representative]
+    device_by_class = [[] for _ in sequence.representative]
     starts_by_class = [[] for _ in sequence.representative]
     for occurrence in sequence.occurrences:
         regions = occurrence.regions
@@ -58,10 +58,10 @@ def _class_runs(compiled, sequence, phase_signals: dict):
             unique, inverse = np.unique(labels, return_inverse=True)
             signals = [region_signal(data, occurrence, regions.keys[label]) for label in unique.tolist()]
             phase_signals[key] = [signals[i] for i in inverse.ravel().tolist()]
-        for c, (levels, starts) in enumerate(phase_signals[key]):
-            levels_by_class[c].append(levels)
+        for c, (device, starts) in enumerate(phase_signals[key]):
+            device_by_class[c].append(device)
             starts_by_class[c].append(starts + occurrence.start)
-    return [(np.concatenate(a), np.concatenate(b)) for a, b in zip(levels_by_class, starts_by_class)]
+    return [(np.concatenate(a), np.concatenate(b)) for a, b in zip(device_by_class, starts_by_class)]
 
 
 def _fine_classes(sequence, data) -> set:
@@ -154,13 +154,13 @@ def _signals(compiled, sequence, cache, phase_signals):
     background = np.asarray(compiled.data["background"]["device"])
     unique: dict = {}
     signals, owner = [], []
-    for levels, starts in _class_runs(compiled, sequence, phase_signals):
-        key = (levels.tobytes(), starts.tobytes())
+    for device, starts in _class_runs(compiled, sequence, phase_signals):
+        key = (device.tobytes(), starts.tobytes())
         if key not in unique:  # many classes show the same colours frame for frame (e.g. a blob's outskirts)
             unique[key] = len(signals)
             if key not in cache:
-                levels = np.where((levels < 0).any(axis=1)[:, None], background[None, :], levels)
-                cache[key] = _Signal(device_to_RGB_linear(levels, model.level_outputs), starts, model, weights)
+                device = np.where((device < 0).any(axis=1)[:, None], background[None, :], device)
+                cache[key] = _Signal(device_to_RGB_linear(device, model.level_outputs), starts, model, weights)
             signals.append(cache[key])
         owner.append(unique[key])
     return signals, np.array(owner)

@@ -237,8 +237,8 @@ def _response(findings, compiled, response, label):
 def _grain(compiled, RGB):
     from ..colorimetry.device import RGB_linear_to_device, quantisation_cone_contrast
 
-    levels = RGB_linear_to_device(np.clip(RGB, 0, 1), compiled.model.level_outputs)
-    return float(np.max(quantisation_cone_contrast(levels, compiled.model.level_outputs, compiled.model.M_LMS,
+    device = RGB_linear_to_device(np.clip(RGB, 0, 1), compiled.model.level_outputs)
+    return float(np.max(quantisation_cone_contrast(device, compiled.model.level_outputs, compiled.model.M_LMS,
                                                    compiled.background.LMS_0)))
 
 

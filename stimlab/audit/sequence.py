@@ -180,7 +180,7 @@ def _as_array(table: list) -> np.ndarray:
     return _ARRAYS[key][1]
 
 
-def _table_levels(data, item, region, steps: np.ndarray, value) -> np.ndarray:
+def _table_device(data, item, region, steps: np.ndarray, value) -> np.ndarray:
     """Device levels (n, 3) of one region of an item at each of ``steps`` (−1 where out of gamut)."""
     from ..experiment.plan import PROFILE_SCALE
 
@@ -211,24 +211,24 @@ def _table_levels(data, item, region, steps: np.ndarray, value) -> np.ndarray:
     device = np.array(colour["device"] if colour["device"] is not None else (-1, -1, -1), dtype=np.int64)
     if table is None:
         return np.repeat(device[None, :], steps.size, axis=0)
-    levels = pick(table, steps + STEPS)
-    return np.where((steps == STEPS)[:, None], device[None, :], levels)
+    table_device = pick(table, steps + STEPS)
+    return np.where((steps == STEPS)[:, None], device[None, :], table_device)
 
 
 def region_signal(data: dict, occurrence: Occurrence, key: tuple) -> tuple[np.ndarray, np.ndarray]:
-    """The device levels a region shows through one phase, as runs: (levels per run (n, 3), first frame of each run
+    """The device levels a region shows through one phase, as runs: (device levels per run (n, 3), first frame of each run
     within the phase)."""
     if key[0] in ("background", "fixation"):
-        levels = data["background"]["device"] if key[0] == "background" else data["fixation"]["device"]
-        return np.array([levels], dtype=np.int64), np.zeros(1, dtype=np.int64)
+        device = data["background"]["device"] if key[0] == "background" else data["fixation"]["device"]
+        return np.array([device], dtype=np.int64), np.zeros(1, dtype=np.int64)
     i, region, value = key
     item = occurrence.items[i]
     course = item.course
     if len(course["cycle"]) == 1 and not course["head"] and not course["tail"]:  # steady: one run
-        return _table_levels(data, item, region, np.array(course["cycle"]), value), np.zeros(1, dtype=np.int64)
+        return _table_device(data, item, region, np.array(course["cycle"]), value), np.zeros(1, dtype=np.int64)
     steps = steps_for_phase(course, occurrence.frames)  # an open-ended phase's course has no tail
     unique, inverse = np.unique(steps, return_inverse=True)
-    levels = _table_levels(data, item, region, unique, value)[inverse.ravel()]
-    change = np.r_[True, np.any(levels[1:] != levels[:-1], axis=1)]
+    device = _table_device(data, item, region, unique, value)[inverse.ravel()]
+    change = np.r_[True, np.any(device[1:] != device[:-1], axis=1)]
     starts = np.flatnonzero(change)
-    return levels[starts], starts
+    return device[starts], starts

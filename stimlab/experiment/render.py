@@ -135,8 +135,8 @@ def frame_items(data: dict, trial: dict, phase: dict, *, ladder: int | None = No
     return items
 
 
-def _levels(levels) -> tuple:
-    return tuple(levels) if levels is not None else (-1, -1, -1)
+def _device_or_marker(device) -> tuple:
+    return tuple(device) if device is not None else (-1, -1, -1)
 
 
 def region_levels(item: Item, region: str, step: int, profile_value: int | None = None) -> tuple:
@@ -160,24 +160,24 @@ def region_levels(item: Item, region: str, step: int, profile_value: int | None 
     """
     stimulus, response = item.stimulus, item.response
     if response is not None and region == "second_colour":  # a ladder sets the first colour only
-        return _levels(stimulus["second_colour"]["device"])
+        return _device_or_marker(stimulus["second_colour"]["device"])
     if response is not None:
         if response["kind"] == "adjustment":
             table = response["device_opposite"] if step < 0 and response.get("device_opposite") else response["device"]
-            return _levels(table[item.ladder])
+            return _device_or_marker(table[item.ladder])
         if item.patch is None:
-            return _levels(response["device"][item.ladder])
+            return _device_or_marker(response["device"][item.ladder])
         profile = {"half": 0, "values": [profile_value]}
         index = int(patch_indices(profile, step, item.ladder, len(response["device"]))[0, 0])
-        return _levels(response["device"][index])
+        return _device_or_marker(response["device"][index])
     colour = stimulus[region]
     table = stimulus["colour"].get("modulation_table")
     if item.patch is not None:
         index = int(patch_indices({"half": 0, "values": [profile_value]}, step)[0, 0])
-        return _levels(table[index])
+        return _device_or_marker(table[index])
     if table is not None and step != STEPS and colour.get("modulation_table") is not None:
-        return _levels(colour["modulation_table"][step + STEPS])
-    return _levels(colour["device"])
+        return _device_or_marker(colour["modulation_table"][step + STEPS])
+    return _device_or_marker(colour["device"])
 
 
 @dataclass
@@ -343,14 +343,14 @@ def render_frame(data: dict, trial_index: int, phase_index: int, frame: int, *, 
 
     Returns
     -------
-    levels : ndarray of int, shape (rows, columns, 3)
+    device : ndarray of int, shape (rows, columns, 3)
         Device levels; −1 where a colour is out of gamut.
     edges : ndarray of bool, shape (rows, columns)
         Pixels an anti-aliased outline may blend.
     """
-    levels, edges = next(render_frames(data, trial_index, phase_index, [frame], columns=columns, rows=rows,
+    device, edges = next(render_frames(data, trial_index, phase_index, [frame], columns=columns, rows=rows,
                                        first_in_run=first_in_run, ladder=ladder))
-    return levels, edges
+    return device, edges
 
 
 def render_frames(data: dict, trial_index: int, phase_index: int, frames, *, columns=None, rows=None,
@@ -361,7 +361,7 @@ def render_frames(data: dict, trial_index: int, phase_index: int, frames, *, col
 
     Yields
     ------
-    levels : NDArray[np.int_], shape (rows, columns, 3)
+    device : NDArray[np.int_], shape (rows, columns, 3)
         Device levels; −1 where a colour is out of gamut.
     edges : NDArray[np.bool_], shape (rows, columns)
         Pixels an anti-aliased outline may blend.

@@ -1,7 +1,7 @@
 """The frame log as a typed table: one column per stored number, and the drawn device levels split into one
 integer column per stimulus and channel (``drawn_<stimulus>_device_r`` …) instead of ``"632,794,770"`` text.
 
-The runner logs, per frame, the levels of each item it drew, in the order of the phase's stimuli (``settle`` frames
+The runner logs, per frame, the device levels of each item it drew, in the order of the phase's stimuli (``settle`` frames
 draw the background alone); a patterned item (grating, Gaussian) is logged as ``patch`` and has no single level.
 Times stay the browser's exact doubles (written as the shortest decimal that reads back as the same double).
 Columns are read from :data:`~stimlab.sessions.frame_log.FRAME_COLUMNS`, so a column added there flows through.
@@ -61,7 +61,7 @@ def _levels(block: FrameBlock, data: dict) -> np.ndarray:
 
 
 def frame_chunks(db, session: dict):
-    """The frame table in chunks of about a minute, as ``(block, levels)``: the stored columns of the frames
+    """The frame table in chunks of about a minute, as ``(block, device)``: the stored columns of the frames
     (:class:`~stimlab.sessions.frame_log.FrameBlock`, text columns as codes into ``block.labels``) and their drawn
     device levels, a (frames, 3 · stimuli) integer array with -1 where a stimulus is not drawn (columns in the
     order of :func:`frame_columns`)."""
@@ -78,12 +78,12 @@ def frame_chunks(db, session: dict):
         yield merged, _levels(merged, data)
 
 
-def frame_arrays(block: FrameBlock, levels: np.ndarray, columns: list[str]) -> dict:
+def frame_arrays(block: FrameBlock, device: np.ndarray, columns: list[str]) -> dict:
     """One chunk as ``{column: numpy array}``: text columns as object arrays (None for none)."""
     out = {name: (np.array(block.text(name), dtype=object) if name in TEXT_COLUMNS else block.columns[name])
            for name in FRAME_COLUMNS if name != "drawn"}
     drawn = [c for c in columns if c.startswith("drawn_")]
-    return out | {name: levels[:, i] for i, name in enumerate(drawn)}
+    return out | {name: device[:, i] for i, name in enumerate(drawn)}
 
 
 def _text(values: np.ndarray, name: str) -> list[str]:
@@ -101,6 +101,6 @@ def frames_csv_chunks(db, session: dict):
     Text cells never hold commas or quotes (phase names are checked on the way in)."""
     columns = frame_columns(session["compiled"])
     yield ",".join(columns) + "\n"
-    for block, levels in frame_chunks(db, session):
-        fields = [_text(values, name) for name, values in frame_arrays(block, levels, columns).items()]
+    for block, device in frame_chunks(db, session):
+        fields = [_text(values, name) for name, values in frame_arrays(block, device, columns).items()]
         yield "\n".join(map(",".join, zip(*fields))) + "\n"

@@ -47,7 +47,7 @@ def _trial_table(rows: list[dict]) -> pa.Table:
     return pa.table({c: pa.array([row.get(c) for row in rows]) for c in columns})
 
 
-def _frame_table(block, levels: np.ndarray, columns: list[str]) -> pa.Table:
+def _frame_table(block, device: np.ndarray, columns: list[str]) -> pa.Table:
     """One chunk as an Arrow table straight from the stored columns: text columns as dictionary arrays over the
     block's labels (no Python objects per frame), whole-number columns with -1 for none as nulls."""
     arrays = {}
@@ -58,7 +58,7 @@ def _frame_table(block, levels: np.ndarray, columns: list[str]) -> pa.Table:
             indices = pa.array(np.where(none, 0, codes), mask=none)
             arrays[name] = pa.DictionaryArray.from_arrays(indices, pa.array(block.labels or [""], type=pa.string()))
         elif name.startswith("drawn_"):
-            values = levels[:, columns.index(name) - columns.index(next(c for c in columns if c.startswith("drawn_")))]
+            values = device[:, columns.index(name) - columns.index(next(c for c in columns if c.startswith("drawn_")))]
             arrays[name] = pa.array(values, mask=values < 0)
         elif name == "trial":
             values = block.columns[name]
@@ -78,10 +78,10 @@ def write_frames_parquet(db, session: dict, path: Path) -> int:
     """Write one session's frame table as one Parquet file (a row group per chunk); return the frame count."""
     writer, count = None, 0
     columns = frame_columns(session["compiled"])
-    for block, levels in frame_chunks(db, session):
-        batch = _frame_table(block, levels, columns)
+    for block, device in frame_chunks(db, session):
+        batch = _frame_table(block, device, columns)
         if writer is None:
-            # dictionary encoding only where it pays (the text columns): on times and levels it costs twice the
+            # dictionary encoding only where it pays (the text columns): on times and device levels it costs twice the
             # write time for no smaller file
             writer = pq.ParquetWriter(path, batch.schema, compression="zstd", use_dictionary=list(TEXT_COLUMNS))
         writer.write_table(batch)

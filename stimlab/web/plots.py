@@ -7,12 +7,12 @@ from __future__ import annotations
 
 __all__ = ["frame_preview", "device_to_css"]
 
-def device_to_css(levels, bits: int) -> str:
+def device_to_css(device, bits: int) -> str:
     """A colour for the preview: device levels shown at 8 bits on this screen (not a calibrated rendering)."""
-    if levels is None:
+    if device is None:
         return "none"
     d_max = 2**bits - 1
-    r, g, b = (int(round(v * 255 / d_max)) for v in levels)
+    r, g, b = (int(round(v * 255 / d_max)) for v in device)
     return f"#{r:02x}{g:02x}{b:02x}"
 
 

@@ -17,14 +17,14 @@ export function measureRefresh(durationMs = 2000) {
 }
 
 // Draw known device values with the painter's own path and read them back: every one must come back equal.
-export function colourSelfTest(painter, levels, simulateMismatch = false) {
+export function colourSelfTest(painter, colours, simulateMismatch = false) {
   const mismatches = [];
-  for (const value of levels) {
-    const read = painter.probe(value);
-    const expected = simulateMismatch ? value.map((v) => Math.min(v + 1, painter.dMax)) : value;
-    if (read.some((v, i) => v !== expected[i])) mismatches.push({ drawn: value, read });
+  for (const device of colours) {
+    const read = painter.probe(device);
+    const expected = simulateMismatch ? device.map((v) => Math.min(v + 1, painter.dMax)) : device;
+    if (read.some((v, i) => v !== expected[i])) mismatches.push({ device, read });
   }
-  return { tested: levels.length, mismatches, passed: mismatches.length === 0 };
+  return { tested: colours.length, mismatches, passed: mismatches.length === 0 };
 }
 
 export function geometry(profileSize) {

@@ -110,7 +110,7 @@ function checkFailure(data, checks) {
   if (!checks.colour.passed) {
     const first = checks.colour.mismatches[0];
     return ["The colour pipeline changes the device values",
-      `Drew ${first.drawn.join(", ")} and read back ${first.read.join(", ")} (${checks.colour.mismatches.length} of ` +
+      `Drew ${first.device.join(", ")} and read back ${first.read.join(", ")} (${checks.colour.mismatches.length} of ` +
       `${checks.colour.tested} differ). Start the browser with --force-color-profile=srgb and turn off any colour ` +
       "management or night-light setting, then reload."];
   }

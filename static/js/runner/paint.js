@@ -18,15 +18,15 @@ export class Painter {
     this.patches = new Map();
   }
 
-  css(levels) {
-    const [r, g, b] = levels;
+  css(device) {
+    const [r, g, b] = device;
     if (this.wide) return `color(srgb ${r / this.dMax} ${g / this.dMax} ${b / this.dMax})`;
     return `rgb(${r} ${g} ${b})`;
   }
 
   // Draw one pixel with the same path as stimuli and read it back as device levels.
-  probe(levels) {
-    this.ctx.fillStyle = this.css(levels);
+  probe(device) {
+    this.ctx.fillStyle = this.css(device);
     this.ctx.fillRect(0, 0, 1, 1);
     const pixel = this.wide ? this.ctx.getImageData(0, 0, 1, 1, { pixelFormat: "rgba-float16" })
       : this.ctx.getImageData(0, 0, 1, 1);
@@ -52,14 +52,14 @@ export class Painter {
     return [this.centre[0] + position[0], this.centre[1] - position[1]];
   }
 
-  disc(x, y, radius, levels) {
-    this.ctx.fillStyle = this.css(levels);
+  disc(x, y, radius, device) {
+    this.ctx.fillStyle = this.css(device);
     this.ctx.beginPath();
     this.ctx.arc(x, y, radius, 0, 2 * Math.PI);
     this.ctx.fill();
   }
 
-  // scene: { background, items: [{ geometry, levels, second, patch }], fixation }
+  // scene: { background, items: [{ geometry, device, second, patch }], fixation }
   draw(scene) {
     const ctx = this.ctx;
     ctx.fillStyle = this.css(scene.background);
@@ -68,21 +68,21 @@ export class Painter {
     if (scene.fixation) this.fixation(scene.fixation);
   }
 
-  item({ geometry: g, levels, second, patch }) {
+  item({ geometry: g, device, second, patch }) {
     const [x, y] = this.at(g.position_px);
     const r = (g.size_px ?? 0) / 2;
     const ctx = this.ctx;
     switch (g.shape) {
       case "uniform_field":
-        ctx.fillStyle = this.css(levels);
+        ctx.fillStyle = this.css(device);
         ctx.fillRect(0, 0, this.canvas.width, this.canvas.height);
         break;
       case "square":
-        ctx.fillStyle = this.css(levels);
+        ctx.fillStyle = this.css(device);
         ctx.fillRect(x - r, y - r, 2 * r, 2 * r);
         break;
       case "annulus":
-        ctx.fillStyle = this.css(levels);
+        ctx.fillStyle = this.css(device);
         ctx.beginPath();
         ctx.arc(x, y, r, 0, 2 * Math.PI);
         ctx.arc(x, y, g.inner_size_px / 2, 0, 2 * Math.PI, true);
@@ -90,10 +90,10 @@ export class Painter {
         break;
       case "centre_surround":
         this.disc(x, y, g.surround_size_px / 2, second);
-        this.disc(x, y, r, levels);
+        this.disc(x, y, r, device);
         break;
       case "bipartite":
-        ctx.fillStyle = this.css(levels);
+        ctx.fillStyle = this.css(device);
         ctx.beginPath();
         ctx.arc(x, y, r, Math.PI / 2, 1.5 * Math.PI);
         ctx.fill();
@@ -107,7 +107,7 @@ export class Painter {
         this.putPatch(x, y, patch);
         break;
       default:
-        this.disc(x, y, r, levels);
+        this.disc(x, y, r, device);
     }
   }
 
@@ -129,10 +129,10 @@ export class Painter {
           ? Math.min(2 * steps, Math.max(0, steps + Math.floor((step * s + scale / 2) / scale)))
           : Math.min(table.length - 1, Math.max(0,
             Math.floor((ladderPosition * step * s + (steps * scale) / 2) / (steps * scale))));
-        const levels = table[index];
-        if (!levels) continue;
+        const device = table[index];
+        if (!device) continue;
         const o = 4 * p;
-        for (let c = 0; c < 3; c++) image.data[o + c] = this.wide ? levels[c] / this.dMax : levels[c];
+        for (let c = 0; c < 3; c++) image.data[o + c] = this.wide ? device[c] / this.dMax : device[c];
         image.data[o + 3] = this.wide ? 1 : 255;
       }
       image.half = half;

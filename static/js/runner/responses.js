@@ -33,7 +33,7 @@ export class Responder {
     return this.position.map((p) => low + p * step);
   }
 
-  levels() {
+  device() {
     return this.response.device[this.index()];
   }
 
@@ -61,7 +61,7 @@ export class Responder {
     const k = event.key;
     if (this.confirm.includes(k)) {
       this.result = { method: "adjustment", position_index: this.position.length === 1 ? this.position[0]
-        : [...this.position], position: this.value(), device: this.levels(), rt_ms: rt };
+        : [...this.position], position: this.value(), device: this.device(), rt_ms: rt };
       return { kind: "response", ...this.result };
     }
     // Shift turns a letter key's name upper case: a coarse step on "f" arrives as "F".
@@ -73,11 +73,11 @@ export class Responder {
     const before = [...this.position];
     const limit = this.response.positions.count - 1;
     this.position[axis] = Math.max(0, Math.min(limit, this.position[axis] + sign * size));
-    if (this.levels() === null) {
+    if (this.device() === null) {
       this.position = before; // the display cannot show it: stay, and say so in the log
       return { kind: "gamut_edge", position_index: [...this.position] };
     }
-    return { kind: "adjust", position_index: [...this.position], position: this.value(), device: this.levels(),
+    return { kind: "adjust", position_index: [...this.position], position: this.value(), device: this.device(),
       coarse };
   }
 }

@@ -119,15 +119,15 @@ export class Schedule {
     if (this.trial.target_side && target) {
       g.position_px = [(this.trial.target_side === "left" ? -1 : 1) * Math.abs(g.position_px[0]), g.position_px[1]];
     }
-    const item = { geometry: g, levels: c.colour.device, second: c.second_colour?.device };
+    const item = { geometry: g, device: c.colour.device, second: c.second_colour?.device };
     const perPixel = g.shape === "gaussian" || g.shape === "grating";
     if (target && response.kind === "adjustment" && phase.phase === "respond" && this.responder) {
       // A flickering adjusted target (flicker photometry) alternates with its opposite about the background.
-      item.levels = step < 0 && response.device_opposite ? response.device_opposite[this.responder.index()]
-        : this.responder.levels();
+      item.device = step < 0 && response.device_opposite ? response.device_opposite[this.responder.index()]
+        : this.responder.device();
     } else if (target && response.kind === "staircase") {
       const index = this.staircase(this.trial.condition.index).index;
-      item.levels = response.device[index];
+      item.device = response.device[index];
       if (perPixel) {
         item.patch = { key: `${name}|s${this.trial.condition.index}|${index}|${step}`,
           profile: this.data.plan.patches[name], step, table: response.device, ladderPosition: index };
@@ -139,7 +139,7 @@ export class Schedule {
       item.patch = { key: `${name}|${this.trial.condition.index}|${step}`, profile: this.data.plan.patches[name],
         step, table };
     } else if (table && step !== STEPS) {
-      item.levels = table[step + STEPS];
+      item.device = table[step + STEPS];
       if (c.second_colour?.modulation_table) item.second = c.second_colour.modulation_table[step + STEPS];
     }
     return item;
@@ -209,7 +209,7 @@ export class Schedule {
     this.painter.draw({ background: this.data.background.device, items,
       fixation: showFixation ? this.data.fixation : null });
     if (this.logFrames) {
-      const drawn = items.map((i) => (i.levels ? i.levels.join(",") : "patch")).join(";");
+      const drawn = items.map((i) => (i.device ? i.device.join(",") : "patch")).join(";");
       this.log.frame(this.frame, stamp, callbackStart, this.trial.index, phase.phase, dropped, drawn, this.inPhase);
     }
     this.frame += 1;
