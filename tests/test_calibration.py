@@ -11,7 +11,7 @@ from stimlab.profiles.calibration import (
     drift,
     measurement_plan,
     profile_from_readings,
-    recommend_model,
+    recommend_transfer_model,
     validate,
 )
 
@@ -75,7 +75,7 @@ def test_warm_up_drift_is_flagged(demo_model):
 def test_model_recommendation_prefers_the_true_shape():
     x = np.linspace(0, 1, 12) ** 1.5
     y = np.clip(1.08 * x - 0.08, 0, None) ** 2.3
-    best, scores = recommend_model(x, y)
+    best, scores = recommend_transfer_model(x, y)
     assert best in ("gog", "table") and scores["gog"] < scores["power"]
 
 

@@ -68,7 +68,7 @@ def test_a_session_without_responses_has_a_page_and_its_timing_figure(app, clien
 def test_a_flat_staircase_draws_its_data_without_a_curve(tmp_path):
     from stimlab.sessions.figures import session_specs
 
-    summary = {"timing": {"histogram": {"edges_ms": [0, 1], "counts": [0]}, "period_ms": 16.7}, "model": None,
+    summary = {"timing": {"histogram": {"edges_ms": [0, 1], "counts": [0]}, "period_ms": 16.7}, "adaptation_model": None,
                "rows": [], "conditions": [{"label": "single", "threshold": {
                    "levels": [[0.01, 8, 10], [0.02, 8, 10]], "threshold": 9.0, "slope": 1.0, "error": "outside"}}]}
     spec = session_specs(summary)["psychometric"]

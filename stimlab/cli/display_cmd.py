@@ -81,7 +81,7 @@ def run_build(args) -> int:
         if args.black_xyY:
             chromaticities["black"] = args.black_xyY
     transfer_text = read_text(args.transfer)
-    measurements = parse_transfer(transfer_text, args.bits, name=args.transfer, model=args.model)
+    measurements = parse_transfer(transfer_text, args.bits, name=args.transfer, transfer_model=args.model)
     transfer = {}
     for channel, (levels, luminance) in measurements.items():
         try:

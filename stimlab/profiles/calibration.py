@@ -25,7 +25,7 @@ from ..errors import InputError
 from .measurements import CHANNELS
 from .profile import build_profile, transfer_entry
 
-__all__ = ["measurement_plan", "cross_validated_rms", "recommend_model", "profile_from_readings", "validate",
+__all__ = ["measurement_plan", "cross_validated_rms", "recommend_transfer_model", "profile_from_readings", "validate",
            "drift", "DEFAULT_TOLERANCE"]
 
 DEFAULT_TOLERANCE = {"luminance_percent": 2.0, "delta_uv": 0.004}
@@ -92,7 +92,7 @@ def measurement_plan(bits: int, levels_per_channel: int = 12) -> list[dict]:
     return steps
 
 
-def cross_validated_rms(x: ArrayLike, y: ArrayLike, model: str, sigma: ArrayLike | None = None) -> float:
+def cross_validated_rms(x: ArrayLike, y: ArrayLike, transfer_model: str, sigma: ArrayLike | None = None) -> float:
     """Leave-one-out RMS prediction error of a transfer model (interior points; 0 and full drive are anchors).
 
     Parameters
@@ -101,7 +101,7 @@ def cross_validated_rms(x: ArrayLike, y: ArrayLike, model: str, sigma: ArrayLike
         Normalised device levels ``d / d_max``, increasing, 0 first and 1 last.
     y
         Normalised output, fraction of full-drive luminance above black, 0..1.
-    model
+    transfer_model
         A key of :data:`stimlab.colorimetry.transfer.TRANSFER_MODELS`.
     sigma
         Standard error of each ``y`` (see :func:`stimlab.colorimetry.transfer.fit_transfer`).
@@ -118,14 +118,14 @@ def cross_validated_rms(x: ArrayLike, y: ArrayLike, model: str, sigma: ArrayLike
     for i in range(1, x.size - 1):
         keep = np.arange(x.size) != i
         try:
-            fitted = fit_transfer(x[keep], y[keep], model, None if sigma is None else sigma[keep]).model
+            fitted = fit_transfer(x[keep], y[keep], transfer_model, None if sigma is None else sigma[keep]).model
         except ValueError:
             return float("inf")
         errors.append(float(fitted.forward(x[i])) - y[i])
     return float(np.sqrt(np.mean(np.square(errors)))) if errors else float("inf")
 
 
-def recommend_model(x: ArrayLike, y: ArrayLike, sigma: ArrayLike | None = None) -> tuple[str, dict]:
+def recommend_transfer_model(x: ArrayLike, y: ArrayLike, sigma: ArrayLike | None = None) -> tuple[str, dict]:
     """The model that best predicts levels it was not fitted to (leave-one-out), and every model's score.
 
     Arguments as for :func:`cross_validated_rms`; the scores are its RMS (normalised output) by model name, and
@@ -134,7 +134,7 @@ def recommend_model(x: ArrayLike, y: ArrayLike, sigma: ArrayLike | None = None) 
     Examples
     --------
     >>> x = np.linspace(0.0, 1.0, 9)
-    >>> best, scores = recommend_model(x, x**2.2)
+    >>> best, scores = recommend_transfer_model(x, x**2.2)
     >>> round(scores["table"], 4), scores["power"] < 1e-6
     (0.0027, True)
     """
@@ -150,7 +150,7 @@ def _by_step(plan, readings):
 
 def profile_from_readings(plan: list[dict], readings: list[dict], *, name: str, bits: int, refresh_hz: float,
                           size_cm=None, size_px=None, measured_by: str = "", spectra: tuple | None = None,
-                          model: str | None = None) -> tuple[dict, dict]:
+                          transfer_model: str | None = None) -> tuple[dict, dict]:
     """Build a profile from a run's readings; return it with the model scores per channel.
 
     ``spectra`` (from a spectroradiometer CSV) gives the primaries; otherwise the x, y read at each channel's full
@@ -166,8 +166,8 @@ def profile_from_readings(plan: list[dict], readings: list[dict], *, name: str, 
         The display's name, bit depth, refresh rate (Hz), size (cm and px) and who measured it.
     spectra
         Spectra of the primaries and black as :func:`stimlab.profiles.profile.build_profile` takes them.
-    model
-        Transfer model to use for every channel; ``None`` takes each channel's :func:`recommend_model`.
+    transfer_model
+        Transfer model to use for every channel; ``None`` takes each channel's :func:`recommend_transfer_model`.
 
     Returns
     -------
@@ -195,10 +195,10 @@ def profile_from_readings(plan: list[dict], readings: list[dict], *, name: str, 
         levels = np.array([0] + [p[0] for p in points], dtype=float)
         luminance = np.array([black["luminance"]] + [p[1] for p in points])
         y = (luminance - luminance[0]) / (luminance[-1] - luminance[0])
-        best, scores[channel] = recommend_model(levels / d_max, y,
+        best, scores[channel] = recommend_transfer_model(levels / d_max, y,
                                                 reading_sigma(luminance) / (luminance[-1] - luminance[0]))
         try:
-            transfer[channel] = transfer_entry(levels, luminance, bits, model or best)
+            transfer[channel] = transfer_entry(levels, luminance, bits, transfer_model or best)
         except InputError as error:
             raise InputError(f"channel {channel}: {error.message}", field="readings") from None
         transfer[channel]["recommended"] = best

@@ -44,14 +44,14 @@ def demo_file(name: str) -> str:
 DEMO_BITS = 10
 
 
-def demo_profile(measured_on: str = DEMO_MEASURED_ON, model: str = "gog") -> dict:
+def demo_profile(measured_on: str = DEMO_MEASURED_ON, transfer_model: str = "gog") -> dict:
     """The demo display's profile (a 10-bit panel), built from its shipped measurement files.
 
     Parameters
     ----------
     measured_on
         Measurement date recorded in the profile, ISO ``YYYY-MM-DD``.
-    model
+    transfer_model
         Transfer model of every channel, a key of :data:`stimlab.colorimetry.transfer.TRANSFER_MODELS`
         (``power``, ``gog`` or ``table``); the others are fitted too, for comparison.
 
@@ -79,8 +79,8 @@ def demo_profile(measured_on: str = DEMO_MEASURED_ON, model: str = "gog") -> dic
     wavelengths, primaries, black = parse_spectra(demo_file("vale_street_b12_spectra.csv"),
                                                   "vale_street_b12_spectra.csv")
     measurements = parse_transfer(demo_file("vale_street_b12_transfer.csv"), DEMO_BITS,
-                                  "vale_street_b12_transfer.csv", model)
-    transfer = {c: transfer_entry(levels, lum, DEMO_BITS, model) for c, (levels, lum) in measurements.items()}
+                                  "vale_street_b12_transfer.csv", transfer_model)
+    transfer = {c: transfer_entry(levels, lum, DEMO_BITS, transfer_model) for c, (levels, lum) in measurements.items()}
     return build_profile(DEMO_DISPLAY_NAME, transfer=transfer, bits=DEMO_BITS, refresh_hz=60.0,
                          spectra=(wavelengths, primaries, black), size_cm=(53.1, 29.9), size_px=(1920, 1080),
                          measured_by="T. Okafor, Vale Street Colour Vision Laboratory", measured_on=measured_on,

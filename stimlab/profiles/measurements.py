@@ -217,7 +217,7 @@ def falls(levels: ArrayLike, luminance: ArrayLike) -> list[dict]:
 
 
 def parse_transfer(text: str, bits: int, name: str = "transfer",
-                   model: str = "gog") -> dict[str, tuple[np.ndarray, np.ndarray]]:
+                   transfer_model: str = "gog") -> dict[str, tuple[np.ndarray, np.ndarray]]:
     """Parse transfer measurements from CSV text.
 
     Parameters
@@ -228,7 +228,7 @@ def parse_transfer(text: str, bits: int, name: str = "transfer",
         Bit depth of the display; levels must lie in 0..2^bits − 1.
     name
         What to call the file in messages.
-    model
+    transfer_model
         The transfer model the readings are for. ``"table"`` needs monotone readings: any fall is refused, naming
         every row that breaks it. The fitted models accept falls within the tolerance (:func:`falls`).
 
@@ -280,7 +280,7 @@ def parse_transfer(text: str, bits: int, name: str = "transfer",
                              file=name, row=dup[2], field="level")
         luminance = np.array([p[1] for p in points])
         found = falls(levels, luminance)
-        if found and model == "table":
+        if found and transfer_model == "table":
             rows = "; ".join(f"row {points[f['index']][2]} (level {f['level']}: {f['from_cd_m2']:g} → "
                              f"{f['to_cd_m2']:g} cd/m²)" for f in found)
             raise InputError(f"channel {channel} luminance falls at {rows}; the table model needs monotone data. "

@@ -75,7 +75,7 @@ def primaries_xyY_from_white(chromaticities: dict) -> dict:
     return {c: (float(xy[i, 0]), float(xy[i, 1]), float(Y[i])) for i, c in enumerate(CHANNELS)}
 
 
-def transfer_entry(levels, luminance, bits: int, model: str = "gog") -> dict:
+def transfer_entry(levels, luminance, bits: int, transfer_model: str = "gog") -> dict:
     """Fit every transfer model to one channel's measurements and keep the chosen one.
 
     Parameters
@@ -86,17 +86,17 @@ def transfer_entry(levels, luminance, bits: int, model: str = "gog") -> dict:
         Measured luminance at each level, cd/m².
     bits
         Bit depth.
-    model
-        The model the profile uses (a key of :data:`stimlab.colorimetry.transfer.TRANSFER_MODELS`); the others are fitted
+    transfer_model
+        The transfer model the profile uses (a key of :data:`stimlab.colorimetry.transfer.TRANSFER_MODELS`); the others are fitted
         too so that their residuals can be compared.
     """
-    if model not in TRANSFER_MODELS:
-        raise InputError(f"unknown transfer model {model!r}; choose one of: {', '.join(TRANSFER_MODELS)}",
+    if transfer_model not in TRANSFER_MODELS:
+        raise InputError(f"unknown transfer model {transfer_model!r}; choose one of: {', '.join(TRANSFER_MODELS)}",
                          field="model")
     levels = np.asarray(levels, dtype=float)
     luminance = np.asarray(luminance, dtype=float)
     found = falls(levels, luminance)
-    if found and model == "table":
+    if found and transfer_model == "table":
         at = ", ".join(f"level {f['level']} ({f['from_cd_m2']:g} → {f['to_cd_m2']:g} cd/m²)" for f in found)
         raise InputError(f"luminance falls at {at}; the table model needs monotone data: use the gog or power "
                          "model, or re-measure those levels", field="transfer")
@@ -114,13 +114,13 @@ def transfer_entry(levels, luminance, bits: int, model: str = "gog") -> dict:
         try:
             fit = fit_transfer(x, y, name, sigma)
         except ValueError as error:
-            if name == model:
+            if name == transfer_model:
                 raise InputError(str(error), field="transfer") from None
             continue
         fits[name] = {"parameters": fit.model.parameters(), "rms": fit.rms, "max_abs": fit.max_abs}
-    chosen = fits.pop(model)
+    chosen = fits.pop(transfer_model)
     entry = {
-        "model": model,
+        "model": transfer_model,
         **chosen,
         "measured": {"level": [int(v) for v in levels], "luminance_cd_m2": [float(v) for v in luminance]},
         "alternatives": fits,

@@ -102,7 +102,7 @@ def session_specs(summary: dict) -> dict[str, dict]:
     specs = {"intervals": {"kind": "intervals", "edges_ms": summary["timing"]["histogram"]["edges_ms"],
                            "counts": summary["timing"]["histogram"]["counts"],
                            "period_ms": summary["timing"]["period_ms"]}}
-    induction = summary["model"] == "induction"
+    induction = summary["adaptation_model"] == "induction"
     vectors = [{"label": c["label"], "adapt": c["adapt_dkl"], "mean": c["response_dkl_mean"],
                 "points": [[r["response_dkl_lm"], r["response_dkl_s"]] for r in summary["rows"]
                            if r["condition"] == c["label"] and r["completed"] and not r.get("practice")

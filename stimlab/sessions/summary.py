@@ -164,4 +164,4 @@ def session_summary(db, session: dict) -> dict:
             "dry_run": bool(rows[0]["dry_run"]) if rows else False, "rows": rows,
             "timing": timing(db, session), "conditions": by_condition(session, rows),
             "photometry": photometry_summary(session, rows),
-            "model": (session["compiled"].get("adaptation_model") or {}).get("kind")}
+            "adaptation_model": (session["compiled"].get("adaptation_model") or {}).get("kind")}

@@ -159,7 +159,7 @@ def upload_spectra(run_id: int):
     return redirect(url_for("calibrations.show", run_id=run_id), 303)
 
 
-def build(run_id: int, model: str | None) -> dict:
+def build(run_id: int, transfer_model: str | None) -> dict:
     import numpy as np
 
     run = _run(run_id)
@@ -173,11 +173,11 @@ def build(run_id: int, model: str | None) -> dict:
     profile, scores = profile_from_readings(
         run["plan"], run["readings"], name=run["name"], bits=settings["bits"], refresh_hz=settings["refresh_hz"],
         size_cm=settings["size_cm"], size_px=settings["size_px"], measured_by=settings["measured_by"],
-        spectra=spectra, model=model or None)
+        spectra=spectra, transfer_model=transfer_model or None)
     tolerance = settings.get("tolerance") or DEFAULT_TOLERANCE
     result = {"scores": scores, "validation": validate(profile, run["plan"], run["readings"], tolerance),
               "drift": drift(run["plan"], run["readings"], tolerance["luminance_percent"]),
-              "models": {c: profile["transfer"][c]["model"] for c in ("red", "green", "blue")},
+              "transfer_models": {c: profile["transfer"][c]["model"] for c in ("red", "green", "blue")},
               "recommended": {c: profile["transfer"][c]["recommended"] for c in ("red", "green", "blue")}}
     display_id = current_store().add_display(g.db, profile)
     result["display_id"] = display_id

@@ -61,17 +61,17 @@ def _number(form, field: str, default, kind=float):
 def profile_from_form(form, files) -> dict:
     """Build a profile from the 'add a display' form (the same steps as ``stimlab display build``)."""
     bits = _number(form, "bits", 8, int)
-    model = form.get("model") or "gog"
-    if model not in TRANSFER_MODELS:
+    transfer_model = form.get("model") or "gog"
+    if transfer_model not in TRANSFER_MODELS:
         raise InputError(f"choose one of {', '.join(TRANSFER_MODELS)}", field="model")
     upload = files.get("transfer")
     if upload is None or not upload.filename:
         raise InputError("choose the transfer measurements file (channel,level,luminance_cd_m2)", field="transfer")
-    measurements = parse_transfer(_text(upload, "transfer"), bits, upload.filename, model)
+    measurements = parse_transfer(_text(upload, "transfer"), bits, upload.filename, transfer_model)
     transfer = {}
     for channel, (levels, luminance) in measurements.items():
         try:
-            transfer[channel] = transfer_entry(levels, luminance, bits, model)
+            transfer[channel] = transfer_entry(levels, luminance, bits, transfer_model)
         except InputError as error:
             raise InputError(f"channel {channel}: {error.message}", file=upload.filename, field="transfer") from None
     spectra = chromaticities = None

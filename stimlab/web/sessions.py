@@ -94,7 +94,8 @@ def show(session_id: int):
     display = current_store().display(g.db, session["display_id"])
     saved = current_store().latest_adjustment(g.db, session["participant"]) if summary["photometry"] else None
     return render_template("session.html", session=session, rows=summary["rows"], quality=summary["timing"],
-                           summary=summary["conditions"], model=summary["model"], photometry=summary["photometry"],
+                           summary=summary["conditions"], adaptation_model=summary["adaptation_model"],
+                           photometry=summary["photometry"],
                            saved_adjustment=saved, display=display,
                            progress=progress(g.db, session_id), formats=SESSION_FORMATS,
                            figures=list(session_specs(summary)),
