@@ -9,10 +9,11 @@ export function requestOptions(method, body, runToken = null) {
   return { method, headers, body, credentials: runToken ? "omit" : "same-origin" };
 }
 
-export async function send(method, url, body, { runToken = null } = {}) {
+// One request and its JSON answer; a network failure or a non-JSON answer becomes the one error shape.
+async function exchange(url, options) {
   let response;
   try {
-    response = await fetch(url, requestOptions(method, body === undefined ? undefined : JSON.stringify(body), runToken));
+    response = await fetch(url, options);
   } catch {
     return { ok: false, status: 0, body: { error: { message: "stimlab is not reachable: is the server still running?" } } };
   }
@@ -25,23 +26,14 @@ export async function send(method, url, body, { runToken = null } = {}) {
   return { ok: response.ok, status: response.status, body: data };
 }
 
+export function send(method, url, body, { runToken = null } = {}) {
+  return exchange(url, requestOptions(method, body === undefined ? undefined : JSON.stringify(body), runToken));
+}
+
 export const postJSON = (url, body) => send("POST", url, body);
 export const putJSON = (url, body) => send("PUT", url, body);
 
 // A multipart form (files included) to a JSON API: the page, and the files chosen in it, stay as they are.
-export async function sendForm(url, formData) {
-  let response;
-  try {
-    response = await fetch(url, { method: "POST", body: formData, credentials: "same-origin",
-      headers: { "X-CSRF-Token": token } });
-  } catch {
-    return { ok: false, status: 0, body: { error: { message: "stimlab is not reachable: is the server still running?" } } };
-  }
-  let data;
-  try {
-    data = await response.json();
-  } catch {
-    data = { error: { message: `unexpected answer from the server (HTTP ${response.status})` } };
-  }
-  return { ok: response.ok, status: response.status, body: data };
+export function sendForm(url, formData) {
+  return exchange(url, { method: "POST", body: formData, credentials: "same-origin", headers: { "X-CSRF-Token": token } });
 }

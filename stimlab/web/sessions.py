@@ -111,9 +111,13 @@ def session_figure(session_id: int, figure: str, fmt: str):
 @blueprint.get("/sessions/<int:session_id>/export.<fmt>")
 def export(session_id: int, fmt: str):
     session = session_or_404(session_id)
-    if fmt not in SESSION_FORMATS:
-        raise NotFound(f"unknown export format {fmt!r}; choose one of: {', '.join(SESSION_FORMATS)}")
-    return _download(session_export(g.db, current_store(), session, fmt))
+    return _download(session_export(g.db, current_store(), session, _format_or_404(fmt, SESSION_FORMATS)))
+
+
+def _format_or_404(fmt: str, formats) -> str:
+    if fmt not in formats:
+        raise NotFound(f"unknown export format {fmt!r}; choose one of: {', '.join(formats)}")
+    return fmt
 
 
 def _protocol_or_404(name: str) -> str:
@@ -153,9 +157,7 @@ def api_study(name: str):
 @blueprint.get("/studies/<name>/export.<fmt>")
 def study_download(name: str, fmt: str):
     name = _protocol_or_404(name)
-    if fmt not in STUDY_FORMATS:
-        raise NotFound(f"unknown export format {fmt!r}; choose one of: {', '.join(STUDY_FORMATS)}")
-    return _download(study_export(g.db, current_store(), name, fmt))
+    return _download(study_export(g.db, current_store(), name, _format_or_404(fmt, STUDY_FORMATS)))
 
 
 def _download(exported) -> Response:
