@@ -7,6 +7,8 @@ import sys
 import time
 import urllib.request
 
+from stimlab.profiles.demo import demo_file
+
 CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",
                  "--no-first-run", "--force-color-profile=srgb"]
 
@@ -56,3 +58,16 @@ class Server:
         if self.log:
             self.log.close()
             self.log = None
+
+
+def fill_display_form(page, tmp_path, name, transfer_text=None):
+    """Fill the open 'add a display' form with the demo display's measurements (or ``transfer_text``) under ``name``."""
+    spectra, transfer = tmp_path / "spectra.csv", tmp_path / "transfer.csv"
+    spectra.write_text(demo_file("vale_street_b12_spectra.csv"))
+    transfer.write_text(transfer_text or demo_file("vale_street_b12_transfer.csv"))
+    page.get_by_label("Name").fill(name)
+    page.get_by_label("Bits per channel").fill("10")
+    page.get_by_label("Visible size (cm)").fill("53.1,29.9")
+    page.get_by_label("Resolution (pixels)").fill("1920,1080")
+    page.get_by_label("Primary spectra (CSV)").set_input_files(str(spectra))
+    page.get_by_label("Transfer measurements (CSV)").set_input_files(str(transfer))

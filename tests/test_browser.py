@@ -8,9 +8,7 @@ import re
 from pathlib import Path
 
 import pytest
-from browser_support import Server
-
-from stimlab.profiles.demo import demo_file
+from browser_support import Server, fill_display_form
 
 ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
 # every image matching a selector loaded and drawn (a server-drawn figure, not a broken link)
@@ -31,17 +29,9 @@ def shot(page, name):
 
 
 def test_add_a_display_through_the_form(server, page, tmp_path):
-    spectra, transfer = tmp_path / "spectra.csv", tmp_path / "transfer.csv"
-    spectra.write_text(demo_file("vale_street_b12_spectra.csv"))
-    transfer.write_text(demo_file("vale_street_b12_transfer.csv"))
     page.goto(server["url"] + "/displays/new")
     shot(page, "display_new")
-    page.get_by_label("Name").fill("Room C LCD")
-    page.get_by_label("Bits per channel").fill("10")
-    page.get_by_label("Visible size (cm)").fill("53.1,29.9")
-    page.get_by_label("Resolution (pixels)").fill("1920,1080")
-    page.get_by_label("Primary spectra (CSV)").set_input_files(str(spectra))
-    page.get_by_label("Transfer measurements (CSV)").set_input_files(str(transfer))
+    fill_display_form(page, tmp_path, "Room C LCD")
     page.get_by_role("button", name="Build the profile").click()
     page.wait_for_url(re.compile(r".*/displays/\d+$"))  # the form is sent in the background, then the page opens
     assert page.get_by_role("heading", level=1).inner_text().startswith("Room C LCD")

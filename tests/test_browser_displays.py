@@ -4,22 +4,16 @@ upload form keeps both chosen files when it refuses them; a profile downloads as
 import json
 from pathlib import Path
 
+from browser_support import fill_display_form
+
 from stimlab.profiles.demo import demo_file
 
 ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
 
 
 def upload(page, url, tmp_path, name, transfer_text=None):
-    spectra, transfer = tmp_path / "spectra.csv", tmp_path / "transfer.csv"
-    spectra.write_text(demo_file("vale_street_b12_spectra.csv"))
-    transfer.write_text(transfer_text or demo_file("vale_street_b12_transfer.csv"))
     page.goto(url + "/displays/new")
-    page.get_by_label("Name").fill(name)
-    page.get_by_label("Bits per channel").fill("10")
-    page.get_by_label("Visible size (cm)").fill("53.1,29.9")
-    page.get_by_label("Resolution (pixels)").fill("1920,1080")
-    page.get_by_label("Primary spectra (CSV)").set_input_files(str(spectra))
-    page.get_by_label("Transfer measurements (CSV)").set_input_files(str(transfer))
+    fill_display_form(page, tmp_path, name, transfer_text)
     page.get_by_role("button", name="Build the profile").click()
 
 

@@ -56,6 +56,15 @@ def wait_respond(page):
                            "window.stimlabSchedule.responder?.onset !== undefined", timeout=20000)
 
 
+def confirm_trials(page, count):
+    """Confirm ``count`` trials at their start position (Enter), each once its respond phase is open."""
+    for _ in range(count):
+        wait_respond(page)
+        trial = page.evaluate("window.stimlabSchedule.trial.index")
+        page.keyboard.press("Enter")
+        page.wait_for_function(f"window.stimlabSchedule.trial?.index !== {trial}")
+
+
 def api(page, server, session_id):
     return page.request.get(f"{server.url}/api/sessions/{session_id}").json()
 
@@ -156,11 +165,7 @@ def test_a_server_restart_loses_no_event(server, page):
     page.wait_for_timeout(1500)
     logged_offline = page.evaluate("window.stimlabLog.seq")
     server.start()
-    for _ in range(2):
-        wait_respond(page)
-        trial = page.evaluate("window.stimlabSchedule.trial.index")
-        page.keyboard.press("Enter")
-        page.wait_for_function(f"window.stimlabSchedule.trial?.index !== {trial}")
+    confirm_trials(page, 2)
     page.wait_for_function("window.stimlabState === 'finished'", timeout=20000)
     page.wait_for_function("window.stimlabLog.backlog === 0", timeout=10000)
     sent = page.evaluate("window.stimlabLog.seq")

@@ -6,7 +6,7 @@ import sqlite3
 import time
 
 import numpy as np
-from test_runner import ARTIFACTS, open_runner, quick_null, start, wait_respond
+from test_runner import ARTIFACTS, confirm_trials, open_runner, quick_null, start
 
 
 def frame_numbers(server, session_id):
@@ -58,11 +58,7 @@ def test_a_tab_reopened_from_its_saved_copy_numbers_frames_after_it(server, page
     saved = again.evaluate("window.stimlabLog.lastFrame")  # the last frame of the saved, unsent batches
     assert saved > 20 and again.evaluate("window.stimlabSchedule.frame") == saved + 1
     again.keyboard.press(" ")
-    for _ in range(2):
-        wait_respond(again)
-        trial = again.evaluate("window.stimlabSchedule.trial.index")
-        again.keyboard.press("Enter")
-        again.wait_for_function(f"window.stimlabSchedule.trial?.index !== {trial}")
+    confirm_trials(again, 2)
     again.wait_for_function("window.stimlabState === 'finished'", timeout=20000)
     again.wait_for_function("window.stimlabLog.backlog === 0", timeout=10000)
     numbers = frame_numbers(server, session_id)

@@ -11,7 +11,7 @@ import sqlite3
 import zipfile
 from pathlib import Path
 
-from test_runner import api, events, open_runner, quick_null, start, token, wait_respond
+from test_runner import api, confirm_trials, events, open_runner, quick_null, start, token, wait_respond
 
 from stimlab.sessions.ingest import iter_frames
 
@@ -182,11 +182,7 @@ def test_a_dry_run_is_scaled_marked_and_left_out_of_analysis(server, page):
     open_runner(page, server, session_id)
     assert "Dry run" in page.locator("#runner-message").inner_text()
     page.keyboard.press(" ")
-    for _ in range(2):
-        wait_respond(page)
-        trial = page.evaluate("window.stimlabSchedule.trial.index")
-        page.keyboard.press("Enter")
-        page.wait_for_function(f"window.stimlabSchedule.trial?.index !== {trial}")
+    confirm_trials(page, 2)
     page.wait_for_function("window.stimlabState === 'finished'", timeout=20000)
     page.wait_for_function("window.stimlabLog.backlog === 0", timeout=10000)
     listing = page.goto(f"{server.url}/sessions").text()
