@@ -239,3 +239,26 @@ def test_the_runner_keeps_its_context_when_another_script_reads_the_canvas_first
     assert page.evaluate("window.stimlabState") == "ready"
     assert page.evaluate("window.stimlabSchedule.painter.supported") is True
     assert page.evaluate("window.stimlabSchedule.painter.ctx.getContextAttributes().colorType") == "float16"
+
+
+def test_a_window_smaller_than_the_profile_keeps_the_centre_and_the_text_in_view(server, browser):
+    """A laptop window (800×600) on the 1920×1080 demo profile: the canvas is centred, so the screen centre is the
+    profile's centre, every line of the instructions (legend included) lies in the part in view, and the ready screen
+    says the edges fall outside."""
+    context = browser.new_context(viewport={"width": 800, "height": 600}, screen={"width": 800, "height": 600},
+                                  bypass_csp=True)
+    page = context.new_page()
+    try:
+        session_id = start(page, server, blocked_protocol(), name="small.json", participant="P02")
+        open_runner(page, server, session_id)
+        box = page.locator("#stimulus").bounding_box()
+        assert (box["x"] + box["width"] / 2, box["y"] + box["height"] / 2) == (400, 300)
+        panel = page.evaluate("window.stimlabScreens.panel")
+        width, height = api(page, server, session_id)["compiled"]["display"]["size_px"]
+        assert width / 2 - 400 <= panel["left"] and panel["right"] <= width / 2 + 400
+        assert height / 2 - 300 <= panel["top"] and panel["bottom"] <= height / 2 + 300
+        assert "edges of every screen fall outside" in page.locator("#runner-message").inner_text()
+        SCREENS.mkdir(parents=True, exist_ok=True)
+        page.screenshot(path=str(SCREENS / "instructions_small_window.png"))
+    finally:
+        context.close()

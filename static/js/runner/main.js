@@ -73,6 +73,7 @@ function makeCanvas(data) {
   canvas.setAttribute("aria-label", "Stimulus display");
   const painter = new Painter(canvas, data);
   root.prepend(canvas);
+  painter.centreInWindow();
   // Beyond the canvas (a window larger than the profile's screen) the page shows the background too.
   document.documentElement.style.background = painter.css(data.background.device);
   return painter;
@@ -122,8 +123,10 @@ function readyNotes(data, checks) {
   if (data.dry_run) notes.push(`Dry run: every duration × ${data.dry_run.factor}. Not for analysis.`);
   if (data.audit?.caution) notes.push(`Photosensitivity: ${data.audit.caution}`);
   if (!checks.geometry.screen_matches) {
-    notes.push(`This screen is ${checks.geometry.screen_px.join("×")} px but the profile says ` +
-      `${data.display.size_px.join("×")} px: sizes in degrees will be wrong on another screen.`);
+    const [w, h] = checks.geometry.screen_px;
+    const [pw, ph] = data.display.size_px;
+    notes.push(`This screen is ${w}×${h} px but the profile says ${pw}×${ph} px: sizes in degrees are only right ` +
+      "on the profiled monitor" + (w < pw || h < ph ? ", and the edges of every screen fall outside this one." : "."));
   }
   if (!checks.timers.cross_origin_isolated) notes.push("Timers are coarsened to 100 µs (page not isolated).");
   return notes;

@@ -18,6 +18,24 @@ export class Painter {
     this.patches = new Map();
   }
 
+  // Centre the canvas in the window on whole device pixels: a window smaller than the profile's screen loses the same
+  // margin on each side, so the centre (fixation, stimuli, the gap in the text) stays in view.
+  centreInWindow() {
+    const place = () => {
+      const dpr = devicePixelRatio;
+      this.canvas.style.left = `${Math.round((innerWidth * dpr - this.canvas.width) / 2) / dpr}px`;
+      this.canvas.style.top = `${Math.round((innerHeight * dpr - this.canvas.height) / 2) / dpr}px`;
+    };
+    place();
+    addEventListener("resize", place);
+  }
+
+  // The part of the canvas the window shows, [width, height] in device pixels.
+  visible() {
+    return [Math.min(this.canvas.width, Math.round(innerWidth * devicePixelRatio)),
+      Math.min(this.canvas.height, Math.round(innerHeight * devicePixelRatio))];
+  }
+
   css(device) {
     const [r, g, b] = device;
     if (this.wide) return `color(srgb ${r / this.dMax} ${g / this.dMax} ${b / this.dMax})`;

@@ -4,6 +4,7 @@
 // {done}, {total}, {seconds}, {title} and {detail}.
 
 const LINE = 1.45; // line height in font sizes
+const MIN_SIZE = 12; // smallest type, device pixels
 
 function fill(text, values) {
   return text.replace(/\{(\w+)\}/g, (whole, name) => (name in values ? String(values[name]) : whole));
@@ -19,8 +20,8 @@ export class Screens {
     this.width = width;
     this.height = height;
     // About 0.6° per font size at the viewing distance, kept between 18 and 40 device pixels.
-    this.size = Math.round(Math.min(40, Math.max(18, 0.7 * (data.pixels_per_degree ?? 30))));
-    this.gap = 2 * this.size; // the centre stays clear of text: it is where the participant looks
+    this.baseSize = Math.round(Math.min(40, Math.max(18, 0.7 * (data.pixels_per_degree ?? 30))));
+    this.size = this.baseSize;
     this.drawn = this.background.join(",");
   }
 
@@ -60,8 +61,22 @@ export class Screens {
     const screen = typeof nameOrScreen === "string" ? this.data.screens[nameOrScreen] : nameOrScreen;
     this.clear();
     if (!screen || !this.text) return this.drawn;
+    // A window smaller than the profile's screen shows only its middle: smaller type until the text fits in view.
+    const [, visibleHeight] = this.painter.visible();
+    const [top, bottom] = [(this.height - visibleHeight) / 2, (this.height + visibleHeight) / 2];
+    for (this.size = this.baseSize; ; this.size = Math.max(MIN_SIZE, Math.floor(0.85 * this.size))) {
+      this.layout(screen, values, extra);
+      if ((this.panel.top >= top && this.panel.bottom <= bottom) || this.size === MIN_SIZE) break;
+      this.clear();
+    }
+    return `${this.drawn};text ${this.text.join(",")}`;
+  }
+
+  // Draw one screen's lines at the current type size and keep the panel they cover.
+  layout(screen, values, extra) {
     const ctx = this.painter.ctx;
-    const maxWidth = Math.min(0.7 * this.width, 34 * this.size);
+    const gap = 2 * this.size; // the centre stays clear of text: it is where the participant looks
+    const maxWidth = Math.min(0.7 * this.painter.visible()[0], 34 * this.size); // lines fit the part in view
     const step = LINE * this.size;
     ctx.fillStyle = this.painter.css(this.text);
     ctx.textBaseline = "middle";
@@ -76,30 +91,35 @@ export class Screens {
       const lines = this.wrap(ctx, fill(p, values), maxWidth);
       lines.forEach((line, i) => above.push({ text: line, space: i === lines.length - 1 ? 0.4 : 0 }));
     }
-    let y = cy - this.gap - above.reduce((sum, l) => sum + step + l.space * this.size, 0) + step / 2;
-    let top = y - step / 2;
+    let y = cy - gap - above.reduce((sum, l) => sum + step + l.space * this.size, 0) + step / 2;
+    const top = y - step / 2;
     for (const line of above) {
       ctx.font = this.font(line.bold ? "bold" : "normal");
       ctx.fillText(line.text, x, y);
       y += step + line.space * this.size;
     }
 
-    y = cy + this.gap + step / 2;
+    y = cy + gap + step / 2;
     const legend = screen.legend ?? [];
     if (legend.length) {
-      ctx.font = this.font();
+      ctx.font = this.font("bold");
       const keyWidth = Math.max(...legend.map(([k]) => ctx.measureText(k).width));
-      const actionWidth = Math.max(...legend.map(([, a]) => ctx.measureText(a).width));
+      ctx.font = this.font();
+      // Actions wrap beside their keys when the part of the screen in view is narrow.
+      const actions = legend.map(([, a]) => this.wrap(ctx, a, Math.max(maxWidth - keyWidth - this.size, 8 * this.size)));
+      const actionWidth = Math.max(...actions.flat().map((line) => ctx.measureText(line).width));
       const left = x - (keyWidth + this.size + actionWidth) / 2;
-      for (const [keys, action] of legend) {
+      legend.forEach(([keys], i) => {
         ctx.textAlign = "right";
         ctx.font = this.font("bold");
         ctx.fillText(keys, left + keyWidth, y);
         ctx.textAlign = "left";
         ctx.font = this.font();
-        ctx.fillText(action, left + keyWidth + this.size, y);
-        y += step;
-      }
+        for (const line of actions[i]) {
+          ctx.fillText(line, left + keyWidth + this.size, y);
+          y += step;
+        }
+      });
       ctx.textAlign = "center";
       y += 0.6 * this.size;
     }
@@ -110,9 +130,7 @@ export class Screens {
         y += step;
       }
     }
-    top = Math.max(0, top);
-    this.panel = { left: x - maxWidth / 2, right: x + maxWidth / 2, top, bottom: Math.min(this.height, y) };
-    return `${this.drawn};text ${this.text.join(",")}`;
+    this.panel = { left: x - maxWidth / 2, right: x + maxWidth / 2, top, bottom: y };
   }
 }
 
