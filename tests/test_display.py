@@ -135,7 +135,7 @@ def test_one_and_five_nm_measurements_of_a_smooth_spectrum_agree(key):
 def test_a_narrow_line_between_table_nodes_is_not_lost():
     # A 1 nm-wide emission line at 532 nm, measured at 1 nm, falls between the 5 nm nodes of the Smith & Pokorny
     # table; decimating onto that table would drop it entirely. Its luminance must be 683 · radiance · V(532 nm)
-    # (the luminance definition, SCIENCE.md's source CIE 170-2 form), with V(532) interpolated linearly from the
+    # (the luminance definition, CIE 170-2:2015 form), with V(532) interpolated linearly from the
     # table's own V = w_L·l̄ + w_M·m̄ (an independent, coarser interpolation: 1 % tolerance).
     fine = np.arange(380.0, 781.0, 1.0)
     primaries = _smooth_primaries(fine)
