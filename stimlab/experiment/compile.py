@@ -19,7 +19,7 @@ from ..colorimetry.geometry import degrees_to_cm, eccentricity_to_cm
 from ..colorimetry.observers import observer as standard_observer
 from ..colorimetry.stimulus import Background
 from ..errors import InputError
-from .compiled import CompiledColour, CompiledCondition, CompiledStimulus
+from .compiled import CompiledColour, CompiledCondition, CompiledResponse, CompiledStimulus
 from .design import conditions_from_variables, trial_order
 from .plan import build_plan, plan_sha256
 from .protocol import json_path, protocol_sha256
@@ -56,13 +56,28 @@ class Compiled:
         self.conditions = conditions
 
     @property
-    def stimuli(self) -> list:
-        """``[condition][name]`` → :class:`~stimlab.experiment.compiled.CompiledStimulus`, conditions in order."""
+    def stimuli(self) -> list[dict[str, CompiledStimulus]]:
+        """The compiled stimuli of every condition, looked up as ``[condition][name]``.
+
+        Returns
+        -------
+        list of dict of str to CompiledStimulus
+            One mapping per condition, in condition index order (0 to n − 1), stimulus name →
+            :class:`~stimlab.experiment.compiled.CompiledStimulus`.
+        """
         return [c.stimuli for c in self.conditions]
 
     @property
-    def responses(self) -> list:
-        """``[condition]`` → :class:`~stimlab.experiment.compiled.CompiledResponse`, or ``None`` without a response."""
+    def responses(self) -> list[CompiledResponse | None]:
+        """The compiled response of every condition, looked up as ``[condition]``.
+
+        Returns
+        -------
+        list of CompiledResponse or None
+            One entry per condition, in condition index order: the
+            :class:`~stimlab.experiment.compiled.CompiledResponse` of an adjustment or staircase, ``None`` for
+            other methods or without a respond phase.
+        """
         return [c.response for c in self.conditions]
 
 
@@ -211,13 +226,39 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
     protocol
         A protocol that passed :func:`stimlab.experiment.protocol.validate_protocol`.
     profile
-        A checked display profile.
+        A checked display profile (``size_cm``, ``size_px``, ``refresh_hz`` in Hz, ``bits``, its models).
     participant
-        1-based participant number, for Latin-square counterbalancing.
+        1-based participant number (≥ 1), for Latin-square counterbalancing: participant p takes row
+        (p − 1) modulo the number of rows.
     seed
-        Overrides the protocol's seed (the one used is recorded either way).
+        Overrides the protocol's seed (an integer ≥ 0; the one used is recorded either way).
     obs
         An :class:`~stimlab.colorimetry.observers.Observer` to use instead of the protocol's (e.g. an adjusted one).
+    name
+        The file or form name given in errors.
+
+    Returns
+    -------
+    Compiled
+        ``data`` for the runner (durations in whole frames at the display's refresh rate, sizes and positions in
+        pixels, colours as device levels or ``None`` out of gamut, never clipped) and the typed conditions the
+        audit reads.
+
+    Raises
+    ------
+    InputError
+        For a stored observer adjustment without its data folder, a profile without a screen size, a background or
+        colour no display can show (cone contrast at or below −1), or a response that cannot be compiled (see
+        :func:`~stimlab.experiment.responses.compile_response`), with ``field`` its JSON path.
+
+    References
+    ----------
+    .. [1] Williams, E. J. (1949). Experimental designs balanced for the estimation of residual effects of
+       treatments. Australian Journal of Scientific Research, Series A, 2, 149–168 (the Latin-square orders).
+    .. [2] Derrington, A. M., Krauskopf, J. & Lennie, P. (1984). Chromatic mechanisms in lateral geniculate
+       nucleus of macaque. J. Physiol. 357, 241–265 (the DKL space); Brainard, D. H. (1996). Cone contrast and
+       opponent modulation color spaces. In Kaiser & Boynton, Human Color Vision, 2nd ed., 563–579 (computing it
+       for a calibrated display).
     """
     about = protocol["about"]
     if obs is None:

@@ -103,7 +103,15 @@ def apply_edit(protocol: dict, edit: dict) -> dict:
         ``{"op": "add", "path": "conditions.variables", "name": "contrast"}`` (a new variable);
         ``{"op": "add", "path": "conditions.variables.axis", "name": "L+S"}`` (a new level, a copy of the last);
         ``{"op": "add-field", "path": "stimuli[0]", "key": "time_course"}``;
-        ``{"op": "remove", "path": "stimuli[1]"}``; ``{"op": "move", "path": "trial[2]", "by": -1}``.
+        ``{"op": "remove", "path": "stimuli[1]"}``; ``{"op": "move", "path": "trial[2]", "by": -1}``. ``path`` is
+        a JSON path; ``by`` is a whole number of places (negative: earlier), clamped to the list's or mapping's
+        ends.
+
+    Returns
+    -------
+    dict
+        A new protocol with the edit made; ``protocol`` itself is not changed. It may not validate (a phase
+        showing a removed stimulus): the validation that follows reports that on the field concerned.
 
     Raises
     ------
@@ -196,7 +204,24 @@ def _field_default(protocol: dict, parts: list, key: str):
 
 
 def optional_fields(path: str, value: dict, protocol=None) -> list[tuple[str, str]]:
-    """Fields the schema allows at ``path`` that ``value`` does not have yet, as ``(key, label)``."""
+    """Fields the protocol schema allows at ``path`` that ``value`` does not have yet: what the form offers to add.
+
+    Parameters
+    ----------
+    path
+        The JSON path of ``value`` in the protocol (``stimuli[0]``, ``trial[2].response``; ``""`` for the top).
+    value
+        The object at ``path`` (anything else has no fields to add).
+    protocol
+        The whole protocol, to word the labels (stimulus names, the response's colour space), or ``None``.
+
+    Returns
+    -------
+    list of tuple of (str, str)
+        ``(key, label)`` in schema order, label in a researcher's words (:func:`~stimlab.experiment.labels.short_label`);
+        empty for a condition variable, for a colour (its one space is fixed, only ``scale`` can be added) or when
+        every field is there.
+    """
     from .labels import short_label
     from .protocol import protocol_schema
 

@@ -245,7 +245,15 @@ def add_screens(compiled, protocol: dict, rng) -> None:
     protocol
         The protocol it was compiled from (its ``session`` settings).
     rng
-        A :class:`numpy.random.Generator` for practice trials' adjustment starts.
+        The session's :class:`random.Random`, seeded with the recorded seed, for practice trials' adjustment starts
+        (drawn after the main trials' draws, so adding practice leaves the main trials' starts unchanged).
+
+    Returns
+    -------
+    None
+        ``compiled.data`` gains ``keys``, ``text`` (device levels, ``None`` when out of gamut), ``pre_adaptation``
+        (s and whole frames), ``screens``, ``breaks`` and, with practice, a ``practice`` schedule and practice
+        trials first.
 
     Raises
     ------
