@@ -13,7 +13,7 @@ import copy
 import re
 
 from ..errors import InputError
-from .labels import parse_path
+from .labels import parse_path, path_text
 
 __all__ = ["apply_edit", "optional_fields", "PHASE_TEMPLATES"]
 
@@ -77,18 +77,11 @@ def _new_item(protocol: dict, parts: list, container, edit: dict):
         missing = [n for n in names if n not in container]
         if not missing:
             raise InputError("every stimulus is already shown in this phase; add a stimulus first",
-                             field=_text(parts))
+                             field=path_text(parts))
         return missing[0]
     if container:
         return copy.deepcopy(container[-1])
     return "" if parts[-1] in ("authors", "keys") else 0
-
-
-def _text(parts) -> str:
-    text = ""
-    for part in parts:
-        text += f"[{part}]" if isinstance(part, int) else (f".{part}" if text else str(part))
-    return text
 
 
 def apply_edit(protocol: dict, edit: dict) -> dict:

@@ -15,7 +15,8 @@ from ..colorimetry.observers import OBSERVERS
 from ..errors import InputError
 from ..jsonio import check_value, loads
 from ..schemas import deepest_error, json_path, schema, validator
-from .labels import explain_schema_error, field_label, plain_words
+from .labels import field_label
+from .messages import explain_schema_error, plain_words
 
 __all__ = ["load_protocol", "parse_protocol", "validate_protocol", "protocol_schema", "json_path",
            "protocol_sha256", "CAUTION"]
