@@ -12,6 +12,7 @@ from __future__ import annotations
 import random
 
 import numpy as np
+from numpy.typing import NDArray
 
 from ..colorimetry.device import RGB_linear_to_device_or_none
 from ..colorimetry.display import DisplayModel
@@ -23,17 +24,28 @@ from .compiled import CompiledColour, CompiledCondition, CompiledResponse, Compi
 from .design import conditions_from_variables, trial_order
 from .plan import build_plan, plan_sha256
 from .protocol import json_path, protocol_sha256
-from .responses import compile_response
+from .responses import DEFAULT_MAX_TRIALS, compile_response
 from .screens import add_screens
-from .timecourse import DROPPED_FRAME_PERIODS, phase_frames, shown_frequency_hz
+from .timecourse import DROPPED_FRAME_PERIODS, STEPS, phase_frames, shown_frequency_hz
 
-__all__ = ["compile_protocol", "Compiled", "MODULATION_STEPS", "REFERENCE_GREY"]
+__all__ = ["compile_protocol", "Compiled", "MODULATION_STEPS", "REFERENCE_GREY", "DEFAULT_FIXATION_SIZE_DEG",
+           "DEFAULT_FIXATION_COLOUR"]
 
 REFERENCE_GREY = (0.5, 0.5, 0.5)
 """Linear RGB of the reference grey that backgrounds in cone contrast or DKL are relative to."""
 
-MODULATION_STEPS = 255
-"""Modulation tables run from −1 to 1 in 2·255 + 1 steps: finer than one level of an 8-bit display."""
+MODULATION_STEPS = STEPS
+"""Modulation tables run from −1 to 1 in 2·255 + 1 steps (the time-course rule's steps): finer than one level of an
+8-bit display."""
+
+DEFAULT_FIXATION_SIZE_DEG = 0.4
+"""Size of the fixation mark when the protocol does not say (degrees of visual angle; a few tenths of a degree is
+common practice, large enough to hold the gaze and small enough to leave a central test patch visible)."""
+
+DEFAULT_FIXATION_COLOUR = {"dkl": [-0.5, 0, 0]}
+"""Colour of the fixation mark when the protocol does not say: a darker neutral, an offset from the background
+along the DKL luminance axis only, so that it does not pull chromatic adaptation away from the background (a
+luminance-only mark is common practice, from memory; the size of the offset is this program's choice)."""
 
 
 class Compiled:
@@ -85,7 +97,7 @@ def _resolve(value, values: dict):
     return values[value[1:]] if isinstance(value, str) and value.startswith("$") else value
 
 
-def _colour_to_LMS(colour: dict, background: Background, values: dict, where: str) -> np.ndarray:
+def _colour_to_LMS(colour: dict, background: Background, values: dict, where: str) -> NDArray[np.float64]:
     space = next(k for k in colour if k != "scale")
     vector = _resolve(colour[space], values)
     vector = np.array([_resolve(v, values) for v in vector], dtype=float)
@@ -128,11 +140,11 @@ def needs_modulation_table(stimulus: dict) -> bool:
             or stimulus["shape"] in ("grating", "gaussian"))
 
 
-def _device_or_none(background: Background, RGB: np.ndarray):
+def _device_or_none(background: Background, RGB: NDArray[np.float64]):
     return RGB_linear_to_device_or_none(RGB, background.model.level_outputs)
 
 
-def _compile_colour(background: Background, LMS: np.ndarray, stimulus: dict) -> CompiledColour:
+def _compile_colour(background: Background, LMS: NDArray[np.float64], stimulus: dict) -> CompiledColour:
     RGB_0 = background.RGB_0
     delta_RGB = background.model.LMS_to_RGB_linear(LMS) - RGB_0
     extremes = _modulation_extremes(stimulus)
@@ -346,17 +358,18 @@ def _fixation(protocol, background, distance, px_per_cm):
     spec = protocol.get("fixation")
     if spec is None:
         return None
-    colour = spec.get("colour", {"dkl": [-0.5, 0, 0]})
+    colour = spec.get("colour", DEFAULT_FIXATION_COLOUR)
     LMS = _colour_to_LMS(colour, background, {}, "fixation.colour")
     device, inside = _device_or_none(background, background.model.LMS_to_RGB_linear(LMS)[None, :])
-    return {"shape": spec.get("shape", "cross"), "size_px": degrees_to_cm(spec.get("size_deg", 0.4), distance) *
-            px_per_cm, "device": device[0], "in_gamut": bool(inside[0])}
+    size_deg = spec.get("size_deg", DEFAULT_FIXATION_SIZE_DEG)
+    return {"shape": spec.get("shape", "cross"), "size_px": degrees_to_cm(size_deg, distance) * px_per_cm,
+            "device": device[0], "in_gamut": bool(inside[0])}
 
 
 def _trials(design, conditions, response, responses, rng, participant) -> list:
     repeats = int(design.get("repeats", 1))
     if response is not None and response["method"] == "staircase":
-        repeats = max(repeats, int(response.get("max_trials", 50)))
+        repeats = max(repeats, int(response.get("max_trials", DEFAULT_MAX_TRIALS)))
     blocks = design.get("blocks")
     if blocks:
         key = blocks["by"]

@@ -13,7 +13,9 @@ import copy
 import re
 
 from ..errors import InputError
+from .compile import DEFAULT_FIXATION_SIZE_DEG
 from .labels import parse_path, path_text
+from .responses import DEFAULT_MAX_TRIALS, DEFAULT_STAIRCASE_RULE, DEFAULT_STOP_REVERSALS
 
 __all__ = ["apply_edit", "optional_fields", "PHASE_TEMPLATES"]
 
@@ -28,15 +30,15 @@ PHASE_TEMPLATES = {
 
 FIELD_DEFAULTS = {
     "authors": [""], "version": "0.1", "notes": "", "planned_display": {"name": ""},
-    "fixation": {"shape": "cross", "size_deg": 0.4}, "shape": "cross", "size_deg": 2, "inner_size_deg": 1,
-    "surround_size_deg": 8, "sigma_deg": 0.5, "cycles_per_deg": 2, "orientation_deg": 0, "position_deg": [0, 0],
-    "colour": {"dkl": [0, 0, 0]}, "second_colour": {"dkl": [0, 0, 0]}, "scale": 1,
+    "fixation": {"shape": "cross", "size_deg": DEFAULT_FIXATION_SIZE_DEG}, "shape": "cross", "size_deg": 2,
+    "inner_size_deg": 1, "surround_size_deg": 8, "sigma_deg": 0.5, "cycles_per_deg": 2, "orientation_deg": 0,
+    "position_deg": [0, 0], "colour": {"dkl": [0, 0, 0]}, "second_colour": {"dkl": [0, 0, 0]}, "scale": 1,
     "time_course": {"kind": "steady"}, "frequency_hz": 2, "mode": "around_background", "ramp_on_ms": 100,
     "ramp_off_ms": 100, "stimuli": [], "duration_s": 1, "top_up_s": 5, "timeout_s": 30,
     "response": {"method": "yes_no", "keys": ["y", "n"]},
-    "start_jitter": 0, "step_coarse": 0.1, "keys": ["ArrowUp", "ArrowDown"], "rule": {"up": 1, "down": 2},
-    "stop_reversals": 8, "max_trials": 50, "variables": {}, "repeats": 1, "order": "shuffled", "seed": 1,
-    "exponent": 1.0,
+    "start_jitter": 0, "step_coarse": 0.1, "keys": ["ArrowUp", "ArrowDown"], "rule": DEFAULT_STAIRCASE_RULE,
+    "stop_reversals": DEFAULT_STOP_REVERSALS, "max_trials": DEFAULT_MAX_TRIALS, "variables": {}, "repeats": 1,
+    "order": "shuffled", "seed": 1, "exponent": 1.0,
 }
 """Values for an optional field added through the form (by key)."""
 

@@ -28,6 +28,10 @@ DEFAULT_TEXT_LUMINANCE = -0.3
 luminance contrast), a darker neutral that is readable without pulling adaptation away from the background. On a
 mid-grey background its change stays under the WCAG 2.2 flash transition of 10 % of the white's luminance."""
 
+GAMUT_TOLERANCE = 1e-9
+"""Linear RGB this far outside 0..1 still counts as inside the gamut: rounding in the matrix inverse, far below one
+device level (common practice)."""
+
 RESERVED_KEYS = ("Escape",)
 """Keys the runner keeps for itself: Escape pauses."""
 
@@ -190,7 +194,7 @@ def scale_durations(protocol: dict, factor: float) -> dict:
 def _text_colour(background, offset: float) -> dict:
     LMS = background.colour_to_LMS("dkl", [offset, 0.0, 0.0])
     RGB = background.model.LMS_to_RGB_linear(LMS)
-    inside = bool(np.all(RGB >= -1e-9) and np.all(RGB <= 1 + 1e-9))
+    inside = bool(np.all(RGB >= -GAMUT_TOLERANCE) and np.all(RGB <= 1 + GAMUT_TOLERANCE))
     device = background.to_device("rgb_linear", np.clip(RGB, 0, 1)).tolist() if inside else None
     return {"dkl_luminance": offset, "lms": LMS.tolist(), "rgb_linear": RGB.tolist(), "device": device,
             "in_gamut": inside}
