@@ -20,7 +20,7 @@ from ..colorimetry.geometry import degrees_to_cm, eccentricity_to_cm
 from ..colorimetry.observers import observer as standard_observer
 from ..colorimetry.stimulus import Background
 from ..errors import InputError
-from .compiled import CompiledColour, CompiledCondition, CompiledResponse, CompiledStimulus
+from .compiled import Compiled, CompiledColour, CompiledCondition, CompiledStimulus
 from .design import conditions_from_variables, trial_order
 from .plan import build_plan, plan_sha256
 from .protocol import json_path, protocol_sha256
@@ -46,51 +46,6 @@ DEFAULT_FIXATION_COLOUR = {"dkl": [-0.5, 0, 0]}
 """Colour of the fixation mark when the protocol does not say: a darker neutral, an offset from the background
 along the DKL luminance axis only, so that it does not pull chromatic adaptation away from the background (a
 luminance-only mark is common practice, from memory; the size of the offset is this program's choice)."""
-
-
-class Compiled:
-    """A compiled protocol: ``data`` (JSON-able, for the runner) plus the typed conditions the audit reads.
-
-    Attributes
-    ----------
-    data
-        What the runner receives.
-    model, background
-        The display model and background the colours were compiled for.
-    conditions
-        One :class:`~stimlab.experiment.compiled.CompiledCondition` per condition, in index order.
-    """
-
-    def __init__(self, data, model, background, conditions):
-        self.data = data
-        self.model = model
-        self.background = background
-        self.conditions = conditions
-
-    @property
-    def stimuli(self) -> list[dict[str, CompiledStimulus]]:
-        """The compiled stimuli of every condition, looked up as ``[condition][name]``.
-
-        Returns
-        -------
-        list of dict of str to CompiledStimulus
-            One mapping per condition, in condition index order (0 to n − 1), stimulus name →
-            :class:`~stimlab.experiment.compiled.CompiledStimulus`.
-        """
-        return [c.stimuli for c in self.conditions]
-
-    @property
-    def responses(self) -> list[CompiledResponse | None]:
-        """The compiled response of every condition, looked up as ``[condition]``.
-
-        Returns
-        -------
-        list of CompiledResponse or None
-            One entry per condition, in condition index order: the
-            :class:`~stimlab.experiment.compiled.CompiledResponse` of an adjustment or staircase, ``None`` for
-            other methods or without a respond phase.
-        """
-        return [c.response for c in self.conditions]
 
 
 def _resolve(value, values: dict):

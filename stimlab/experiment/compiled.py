@@ -1,5 +1,6 @@
 """Typed results of compiling: a colour, a stimulus, a response and a condition, each with the live arrays the
-audit needs as attributes and a ``to_json()`` giving exactly what the runner receives.
+audit needs as attributes and a ``to_json()`` giving exactly what the runner receives; and the whole compiled
+protocol (:class:`Compiled`), which :func:`stimlab.experiment.compile.compile_protocol` returns.
 """
 
 from __future__ import annotations
@@ -10,7 +11,7 @@ from typing import Any, Callable
 import numpy as np
 from numpy.typing import NDArray
 
-__all__ = ["CompiledColour", "CompiledStimulus", "CompiledResponse", "CompiledCondition"]
+__all__ = ["Compiled", "CompiledColour", "CompiledStimulus", "CompiledResponse", "CompiledCondition"]
 
 
 @dataclass
@@ -170,3 +171,48 @@ class CompiledCondition:
         return {"index": self.index, "label": self.label, "labels": self.labels,
                 "stimuli": {n: s.to_json() for n, s in self.stimuli.items()},
                 "response": self.response.to_json() if self.response else None}
+
+
+class Compiled:
+    """A compiled protocol: ``data`` (JSON-able, for the runner) plus the typed conditions the audit reads.
+
+    Attributes
+    ----------
+    data
+        What the runner receives.
+    model, background
+        The display model and background the colours were compiled for.
+    conditions
+        One :class:`CompiledCondition` per condition, in index order.
+    """
+
+    def __init__(self, data, model, background, conditions):
+        self.data = data
+        self.model = model
+        self.background = background
+        self.conditions = conditions
+
+    @property
+    def stimuli(self) -> list[dict[str, CompiledStimulus]]:
+        """The compiled stimuli of every condition, looked up as ``[condition][name]``.
+
+        Returns
+        -------
+        list of dict of str to CompiledStimulus
+            One mapping per condition, in condition index order (0 to n − 1), stimulus name →
+            :class:`CompiledStimulus`.
+        """
+        return [c.stimuli for c in self.conditions]
+
+    @property
+    def responses(self) -> list[CompiledResponse | None]:
+        """The compiled response of every condition, looked up as ``[condition]``.
+
+        Returns
+        -------
+        list of CompiledResponse or None
+            One entry per condition, in condition index order: the
+            :class:`CompiledResponse` of an adjustment or staircase, ``None`` for
+            other methods or without a respond phase.
+        """
+        return [c.response for c in self.conditions]

@@ -244,7 +244,7 @@ def add_screens(compiled, protocol: dict, rng) -> None:
     Parameters
     ----------
     compiled
-        The :class:`~stimlab.experiment.compile.Compiled` protocol; its ``data`` is changed in place (durations
+        The :class:`~stimlab.experiment.compiled.Compiled` protocol; its ``data`` is changed in place (durations
         in whole frames at the display's refresh rate, text colour in device levels).
     protocol
         The protocol it was compiled from (its ``session`` settings).
