@@ -26,7 +26,13 @@ in chromatic adaptation studies; the protocol's ``session.pre_adaptation_s`` set
 DEFAULT_TEXT_LUMINANCE = -0.3
 """Text colour: this offset from the background along the DKL luminance axis (pooled cone contrast, so about 17 %
 luminance contrast), a darker neutral that is readable without pulling adaptation away from the background. On a
-mid-grey background its change stays under the WCAG 2.2 flash transition of 10 % of the white's luminance."""
+mid-grey background its change stays under the WCAG 2.2 flash transition of 10 % of the white's luminance.
+
+This is a deliberate trade-off: on the demo display's mid-grey it gives a contrast ratio of about 1.2:1, far below
+the WCAG 2.2 contrast minimum for text (success criterion 1.4.3, 4.5:1), which assumes a reader adapted to the page
+rather than to a test background. The runner draws the text about 0.6° high (static/js/runner/screens.js) to keep
+it legible at this contrast; the protocol's ``session.text_luminance`` sets a stronger offset where adaptation
+matters less."""
 
 GAMUT_TOLERANCE = 1e-9
 """Linear RGB this far outside 0..1 still counts as inside the gamut: rounding in the matrix inverse, far below one
