@@ -15,7 +15,7 @@ __all__ = ["explain_schema_error", "plain_words", "TYPE_WORDS", "MAX_SHOWN_CHARA
 
 MAX_SHOWN_CHARACTERS = 60
 """A wrong value is quoted in a message only below this many characters of JSON (else "…"), so that one line of
-the form stays readable (common practice)."""
+the form stays readable (a choice of this program)."""
 
 KEPT_KEYS = ("cone_contrast", "macleod_boynton", "after_image", "centre_surround")
 """Keys left as written in messages: they are names of the trade or values a researcher types, not field names."""
