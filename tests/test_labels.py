@@ -1,59 +1,15 @@
-"""Protocol fields in the researcher's words: labels with where the field sits, and schema errors as sentences."""
+"""Protocol fields in the researcher's words: labels with where the field sits, JSON paths read and written."""
 
 import json
 from pathlib import Path
 
-import pytest
-
-from stimlab.errors import InputError
-from stimlab.experiment.labels import axis_name, component_names, field_label, plain_words, short_label
-from stimlab.experiment.protocol import validate_protocol
+from stimlab.experiment.labels import axis_name, component_names, field_label, parse_path, path_text, short_label
 
 PROTOCOLS = Path(__file__).parents[1] / "protocols"
 
 
 def demo(name="afterimage_null"):
     return json.loads((PROTOCOLS / f"{name}.json").read_text())
-
-
-def error_for(data) -> InputError:
-    with pytest.raises(InputError) as caught:
-        validate_protocol(data, "p.json")
-    return caught.value
-
-
-def test_a_negative_duration_names_the_phase_and_the_minimum():
-    data = demo()
-    data["trial"][1]["duration_s"] = -1
-    error = error_for(data)
-    assert error.field == "trial[1].duration_s"
-    assert error.message == "Duration (s) of phase 2 (gap) must be 0 or more (it is -1)"
-    assert "minimum" not in error.message
-
-
-def test_size_and_type_errors_use_the_stimulus_name():
-    data = demo()
-    data["stimuli"][1]["size_deg"] = 0
-    assert error_for(data).message == "Size (deg) of stimulus 2 (test_disc) must be more than 0 (it is 0)"
-    data = demo()
-    data["stimuli"][1]["colour"]["dkl"][1] = "red"
-    message = error_for(data).message
-    assert message.startswith("L−M in DKL (luminance, L−M, S) of the colour of stimulus 2 (test_disc)")
-    assert "must be a number" in message
-
-
-def test_a_missing_field_is_named_by_its_label():
-    data = demo()
-    del data["about"]["viewing_distance_cm"]
-    assert error_for(data).message == "About the study needs viewing distance (cm)"
-
-
-def test_reference_errors_carry_the_label_and_no_raw_keys():
-    data = demo()
-    del data["trial"][0]["duration_s"]
-    error = error_for(data)
-    assert error.field == "trial[0].duration_s"
-    assert "duration_s" not in error.message and "Duration (s) of phase 1 (adapt)" in error.message
 
 
 def test_vector_entries_are_named_by_their_space_and_keys_by_their_role():
@@ -73,6 +29,7 @@ def test_plane_axes_are_named_as_the_protocol_names_them():
     assert axis_name([0, 0, -1], "dkl") == "−S" and axis_name([0, 1, 1], "dkl") == "(0, 1, 1)"
 
 
-def test_plain_words_replaces_known_keys_only():
-    assert plain_words("an adapt phase needs duration_s") == "an adapt phase needs duration (s)"
-    assert plain_words("a not_a_key stays") == "a not_a_key stays"
+def test_paths_are_read_and_written_back_unchanged():
+    for path in ("stimuli[2].colour.dkl[1]", "trial[0].response.keys[3]", "conditions.variables.axis.L-M", "about"):
+        assert path_text(parse_path(path)) == path
+    assert parse_path("") == [] and path_text([]) == ""

@@ -121,3 +121,12 @@ def test_random_invalid_protocols_give_an_input_error_never_a_traceback(data):
         validate_protocol(mutated, "p.json")
     except InputError as error:
         assert error.message
+
+
+def test_the_early_length_checks_agree_with_the_schema():
+    from stimlab.experiment.protocol import MAX_ENTRIES, MAX_LEVELS, protocol_schema
+
+    properties = protocol_schema()["properties"]
+    assert properties["stimuli"]["maxItems"] == properties["trial"]["maxItems"] == MAX_ENTRIES
+    levels = properties["conditions"]["properties"]["variables"]["additionalProperties"]["oneOf"]
+    assert levels[0]["maxItems"] == levels[1]["maxProperties"] == MAX_LEVELS

@@ -12,6 +12,7 @@ from __future__ import annotations
 import random
 
 import numpy as np
+from numpy.typing import NDArray
 
 from ..colorimetry.device import RGB_linear_to_device_or_none
 from ..colorimetry.display import DisplayModel
@@ -19,58 +20,39 @@ from ..colorimetry.geometry import degrees_to_cm, eccentricity_to_cm
 from ..colorimetry.observers import observer as standard_observer
 from ..colorimetry.stimulus import Background
 from ..errors import InputError
-from .compiled import CompiledColour, CompiledCondition, CompiledStimulus
+from .compiled import Compiled, CompiledColour, CompiledCondition, CompiledStimulus
 from .design import conditions_from_variables, trial_order
 from .plan import build_plan, plan_sha256
 from .protocol import json_path, protocol_sha256
-from .responses import compile_response
+from .responses import DEFAULT_MAX_TRIALS, compile_response
 from .screens import add_screens
-from .timecourse import DROPPED_FRAME_PERIODS, phase_frames, shown_frequency_hz
+from .timecourse import DROPPED_FRAME_PERIODS, STEPS, phase_frames, shown_frequency_hz
 
-__all__ = ["compile_protocol", "Compiled", "MODULATION_STEPS", "REFERENCE_GREY"]
+__all__ = ["compile_protocol", "Compiled", "MODULATION_STEPS", "REFERENCE_GREY", "DEFAULT_FIXATION_SIZE_DEG",
+           "DEFAULT_FIXATION_COLOUR"]
 
 REFERENCE_GREY = (0.5, 0.5, 0.5)
 """Linear RGB of the reference grey that backgrounds in cone contrast or DKL are relative to."""
 
-MODULATION_STEPS = 255
-"""Modulation tables run from −1 to 1 in 2·255 + 1 steps: finer than one level of an 8-bit display."""
+MODULATION_STEPS = STEPS
+"""Modulation tables run from −1 to 1 in 2·255 + 1 steps (the time-course rule's steps): finer than one level of an
+8-bit display."""
 
+DEFAULT_FIXATION_SIZE_DEG = 0.4
+"""Size of the fixation mark when the protocol does not say (degrees of visual angle; a few tenths of a degree is
+common practice, large enough to hold the gaze and small enough to leave a central test patch visible)."""
 
-class Compiled:
-    """A compiled protocol: ``data`` (JSON-able, for the runner) plus the typed conditions the audit reads.
-
-    Attributes
-    ----------
-    data
-        What the runner receives.
-    model, background
-        The display model and background the colours were compiled for.
-    conditions
-        One :class:`~stimlab.experiment.compiled.CompiledCondition` per condition, in index order.
-    """
-
-    def __init__(self, data, model, background, conditions):
-        self.data = data
-        self.model = model
-        self.background = background
-        self.conditions = conditions
-
-    @property
-    def stimuli(self) -> list:
-        """``[condition][name]`` → :class:`~stimlab.experiment.compiled.CompiledStimulus`, conditions in order."""
-        return [c.stimuli for c in self.conditions]
-
-    @property
-    def responses(self) -> list:
-        """``[condition]`` → :class:`~stimlab.experiment.compiled.CompiledResponse`, or ``None`` without a response."""
-        return [c.response for c in self.conditions]
+DEFAULT_FIXATION_COLOUR = {"dkl": [-0.5, 0, 0]}
+"""Colour of the fixation mark when the protocol does not say: a darker neutral, an offset from the background
+along the DKL luminance axis only, so that it does not pull chromatic adaptation away from the background (a
+luminance-only mark is common practice, from memory; the size of the offset is this program's choice)."""
 
 
 def _resolve(value, values: dict):
     return values[value[1:]] if isinstance(value, str) and value.startswith("$") else value
 
 
-def _colour_to_LMS(colour: dict, background: Background, values: dict, where: str) -> np.ndarray:
+def _colour_to_LMS(colour: dict, background: Background, values: dict, where: str) -> NDArray[np.float64]:
     space = next(k for k in colour if k != "scale")
     vector = _resolve(colour[space], values)
     vector = np.array([_resolve(v, values) for v in vector], dtype=float)
@@ -113,11 +95,11 @@ def needs_modulation_table(stimulus: dict) -> bool:
             or stimulus["shape"] in ("grating", "gaussian"))
 
 
-def _device_or_none(background: Background, RGB: np.ndarray):
+def _device_or_none(background: Background, RGB: NDArray[np.float64]):
     return RGB_linear_to_device_or_none(RGB, background.model.level_outputs)
 
 
-def _compile_colour(background: Background, LMS: np.ndarray, stimulus: dict) -> CompiledColour:
+def _compile_colour(background: Background, LMS: NDArray[np.float64], stimulus: dict) -> CompiledColour:
     RGB_0 = background.RGB_0
     delta_RGB = background.model.LMS_to_RGB_linear(LMS) - RGB_0
     extremes = _modulation_extremes(stimulus)
@@ -211,13 +193,39 @@ def compile_protocol(protocol: dict, profile: dict, *, participant: int = 1, see
     protocol
         A protocol that passed :func:`stimlab.experiment.protocol.validate_protocol`.
     profile
-        A checked display profile.
+        A checked display profile (``size_cm``, ``size_px``, ``refresh_hz`` in Hz, ``bits``, its models).
     participant
-        1-based participant number, for Latin-square counterbalancing.
+        1-based participant number (≥ 1), for Latin-square counterbalancing: participant p takes row
+        (p − 1) modulo the number of rows.
     seed
-        Overrides the protocol's seed (the one used is recorded either way).
+        Overrides the protocol's seed (an integer ≥ 0; the one used is recorded either way).
     obs
         An :class:`~stimlab.colorimetry.observers.Observer` to use instead of the protocol's (e.g. an adjusted one).
+    name
+        The file or form name given in errors.
+
+    Returns
+    -------
+    Compiled
+        ``data`` for the runner (durations in whole frames at the display's refresh rate, sizes and positions in
+        pixels, colours as device levels or ``None`` out of gamut, never clipped) and the typed conditions the
+        audit reads.
+
+    Raises
+    ------
+    InputError
+        For a stored observer adjustment without its data folder, a profile without a screen size, a background or
+        colour no display can show (cone contrast at or below −1), or a response that cannot be compiled (see
+        :func:`~stimlab.experiment.responses.compile_response`), with ``field`` its JSON path.
+
+    References
+    ----------
+    .. [1] Williams, E. J. (1949). Experimental designs balanced for the estimation of residual effects of
+       treatments. Australian Journal of Scientific Research, Series A, 2, 149–168 (the Latin-square orders).
+    .. [2] Derrington, A. M., Krauskopf, J. & Lennie, P. (1984). Chromatic mechanisms in lateral geniculate
+       nucleus of macaque. J. Physiol. 357, 241–265 (the DKL space); Brainard, D. H. (1996). Cone contrast and
+       opponent modulation color spaces. In Kaiser & Boynton, Human Color Vision, 2nd ed., 563–579 (computing it
+       for a calibrated display).
     """
     about = protocol["about"]
     if obs is None:
@@ -305,17 +313,18 @@ def _fixation(protocol, background, distance, px_per_cm):
     spec = protocol.get("fixation")
     if spec is None:
         return None
-    colour = spec.get("colour", {"dkl": [-0.5, 0, 0]})
+    colour = spec.get("colour", DEFAULT_FIXATION_COLOUR)
     LMS = _colour_to_LMS(colour, background, {}, "fixation.colour")
     device, inside = _device_or_none(background, background.model.LMS_to_RGB_linear(LMS)[None, :])
-    return {"shape": spec.get("shape", "cross"), "size_px": degrees_to_cm(spec.get("size_deg", 0.4), distance) *
-            px_per_cm, "device": device[0], "in_gamut": bool(inside[0])}
+    size_deg = spec.get("size_deg", DEFAULT_FIXATION_SIZE_DEG)
+    return {"shape": spec.get("shape", "cross"), "size_px": degrees_to_cm(size_deg, distance) * px_per_cm,
+            "device": device[0], "in_gamut": bool(inside[0])}
 
 
 def _trials(design, conditions, response, responses, rng, participant) -> list:
     repeats = int(design.get("repeats", 1))
     if response is not None and response["method"] == "staircase":
-        repeats = max(repeats, int(response.get("max_trials", 50)))
+        repeats = max(repeats, int(response.get("max_trials", DEFAULT_MAX_TRIALS)))
     blocks = design.get("blocks")
     if blocks:
         key = blocks["by"]

@@ -13,7 +13,9 @@ import copy
 import re
 
 from ..errors import InputError
-from .labels import parse_path
+from .compile import DEFAULT_FIXATION_SIZE_DEG
+from .labels import parse_path, path_text
+from .responses import DEFAULT_MAX_TRIALS, DEFAULT_STAIRCASE_RULE, DEFAULT_STOP_REVERSALS
 
 __all__ = ["apply_edit", "optional_fields", "PHASE_TEMPLATES"]
 
@@ -28,15 +30,15 @@ PHASE_TEMPLATES = {
 
 FIELD_DEFAULTS = {
     "authors": [""], "version": "0.1", "notes": "", "planned_display": {"name": ""},
-    "fixation": {"shape": "cross", "size_deg": 0.4}, "shape": "cross", "size_deg": 2, "inner_size_deg": 1,
-    "surround_size_deg": 8, "sigma_deg": 0.5, "cycles_per_deg": 2, "orientation_deg": 0, "position_deg": [0, 0],
-    "colour": {"dkl": [0, 0, 0]}, "second_colour": {"dkl": [0, 0, 0]}, "scale": 1,
+    "fixation": {"shape": "cross", "size_deg": DEFAULT_FIXATION_SIZE_DEG}, "shape": "cross", "size_deg": 2,
+    "inner_size_deg": 1, "surround_size_deg": 8, "sigma_deg": 0.5, "cycles_per_deg": 2, "orientation_deg": 0,
+    "position_deg": [0, 0], "colour": {"dkl": [0, 0, 0]}, "second_colour": {"dkl": [0, 0, 0]}, "scale": 1,
     "time_course": {"kind": "steady"}, "frequency_hz": 2, "mode": "around_background", "ramp_on_ms": 100,
     "ramp_off_ms": 100, "stimuli": [], "duration_s": 1, "top_up_s": 5, "timeout_s": 30,
     "response": {"method": "yes_no", "keys": ["y", "n"]},
-    "start_jitter": 0, "step_coarse": 0.1, "keys": ["ArrowUp", "ArrowDown"], "rule": {"up": 1, "down": 2},
-    "stop_reversals": 8, "max_trials": 50, "variables": {}, "repeats": 1, "order": "shuffled", "seed": 1,
-    "exponent": 1.0,
+    "start_jitter": 0, "step_coarse": 0.1, "keys": ["ArrowUp", "ArrowDown"], "rule": DEFAULT_STAIRCASE_RULE,
+    "stop_reversals": DEFAULT_STOP_REVERSALS, "max_trials": DEFAULT_MAX_TRIALS, "variables": {}, "repeats": 1,
+    "order": "shuffled", "seed": 1, "exponent": 1.0,
 }
 """Values for an optional field added through the form (by key)."""
 
@@ -77,18 +79,11 @@ def _new_item(protocol: dict, parts: list, container, edit: dict):
         missing = [n for n in names if n not in container]
         if not missing:
             raise InputError("every stimulus is already shown in this phase; add a stimulus first",
-                             field=_text(parts))
+                             field=path_text(parts))
         return missing[0]
     if container:
         return copy.deepcopy(container[-1])
     return "" if parts[-1] in ("authors", "keys") else 0
-
-
-def _text(parts) -> str:
-    text = ""
-    for part in parts:
-        text += f"[{part}]" if isinstance(part, int) else (f".{part}" if text else str(part))
-    return text
 
 
 def apply_edit(protocol: dict, edit: dict) -> dict:
@@ -103,7 +98,15 @@ def apply_edit(protocol: dict, edit: dict) -> dict:
         ``{"op": "add", "path": "conditions.variables", "name": "contrast"}`` (a new variable);
         ``{"op": "add", "path": "conditions.variables.axis", "name": "L+S"}`` (a new level, a copy of the last);
         ``{"op": "add-field", "path": "stimuli[0]", "key": "time_course"}``;
-        ``{"op": "remove", "path": "stimuli[1]"}``; ``{"op": "move", "path": "trial[2]", "by": -1}``.
+        ``{"op": "remove", "path": "stimuli[1]"}``; ``{"op": "move", "path": "trial[2]", "by": -1}``. ``path`` is
+        a JSON path; ``by`` is a whole number of places (negative: earlier), clamped to the list's or mapping's
+        ends.
+
+    Returns
+    -------
+    dict
+        A new protocol with the edit made; ``protocol`` itself is not changed. It may not validate (a phase
+        showing a removed stimulus): the validation that follows reports that on the field concerned.
 
     Raises
     ------
@@ -196,7 +199,24 @@ def _field_default(protocol: dict, parts: list, key: str):
 
 
 def optional_fields(path: str, value: dict, protocol=None) -> list[tuple[str, str]]:
-    """Fields the schema allows at ``path`` that ``value`` does not have yet, as ``(key, label)``."""
+    """Fields the protocol schema allows at ``path`` that ``value`` does not have yet: what the form offers to add.
+
+    Parameters
+    ----------
+    path
+        The JSON path of ``value`` in the protocol (``stimuli[0]``, ``trial[2].response``; ``""`` for the top).
+    value
+        The object at ``path`` (anything else has no fields to add).
+    protocol
+        The whole protocol, to word the labels (stimulus names, the response's colour space), or ``None``.
+
+    Returns
+    -------
+    list of tuple of (str, str)
+        ``(key, label)`` in schema order, label in a researcher's words (:func:`~stimlab.experiment.labels.short_label`);
+        empty for a condition variable, for a colour (its one space is fixed, only ``scale`` can be added) or when
+        every field is there.
+    """
     from .labels import short_label
     from .protocol import protocol_schema
 

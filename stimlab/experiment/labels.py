@@ -1,18 +1,17 @@
-"""Protocol fields in a vision scientist's words: one table of labels, and validation errors phrased with them.
+"""Protocol fields in a vision scientist's words: one table of labels, and JSON paths read and written.
 
 A protocol's JSON keys (``duration_s``, ``step_fine``) are exact but not what a researcher reads on a form or in an
 error. Every label lives in :data:`LABELS` (by index-free JSON path) and :data:`KEY_LABELS` (by key, for keys that
-read the same wherever they occur); :func:`field_label` adds where the field sits ("of phase 2 (adapt)") and
-:func:`explain_schema_error` turns a JSON Schema error into a sentence with that label.
+read the same wherever they occur); :func:`field_label` adds where the field sits ("of phase 2 (adapt)").
+:mod:`stimlab.experiment.messages` phrases validation errors with these labels.
 """
 
 from __future__ import annotations
 
-import json
 import re
 
-__all__ = ["LABELS", "KEY_LABELS", "short_label", "field_label", "component_names", "explain_schema_error",
-           "plain_words", "axis_name", "variable_spaces"]
+__all__ = ["LABELS", "KEY_LABELS", "COMPONENTS", "short_label", "field_label", "component_names", "axis_name",
+           "variable_spaces", "parse_path", "path_text"]
 
 LABELS = {
     "about": "About the study",
@@ -92,7 +91,24 @@ _VARIABLE = re.compile(r"^\$[A-Za-z_][A-Za-z0-9_]*$")
 
 
 def parse_path(path: str) -> list:
-    """``stimuli[2].colour.dkl[1]`` → ``['stimuli', 2, 'colour', 'dkl', 1]``."""
+    """Split a JSON path into its keys and list indices (the inverse of :func:`path_text`).
+
+    Parameters
+    ----------
+    path
+        A JSON path as fields are named in errors, e.g. ``stimuli[2].colour.dkl[1]``; ``""`` or ``None`` for the
+        top level.
+
+    Returns
+    -------
+    list of str or int
+        Keys as ``str``, indices (0-based) as ``int``; empty for the top level.
+
+    Examples
+    --------
+    >>> parse_path("stimuli[2].colour.dkl[1]")
+    ['stimuli', 2, 'colour', 'dkl', 1]
+    """
     parts: list = []
     for key, index in re.findall(r"([^.[\]]+)|\[(\d+)\]", path or ""):
         parts.append(int(index) if index else key)
@@ -117,7 +133,33 @@ def _generic(parts) -> str:
 
 
 def axis_name(vector, space: str) -> str:
-    """A direction as a researcher names it: ``[0, 1, 0]`` in DKL is "L−M"; anything else is written out."""
+    """A direction as a researcher names it.
+
+    Parameters
+    ----------
+    vector
+        A 3-vector in ``space`` (unitless directions; only which entries are zero and their signs matter for a
+        named axis), or a ``"$variable"`` reference.
+    space
+        ``dkl``, ``cone_contrast``, ``macleod_boynton`` or ``rgb_linear`` (see :data:`COMPONENTS`); any other
+        space names its components "1st", "2nd", "3rd".
+
+    Returns
+    -------
+    str
+        One non-zero entry: the component's name, with "−" for a negative one ("L−M", "−S"); otherwise the vector
+        written out ("(0, 1, 1)"), "variable <name>" for a reference, or "direction".
+
+    References
+    ----------
+    .. [1] Derrington, A. M., Krauskopf, J. & Lennie, P. (1984). Chromatic mechanisms in lateral geniculate
+       nucleus of macaque. J. Physiol. 357, 241–265 (the DKL axes: luminance, L−M, S).
+
+    Examples
+    --------
+    >>> axis_name([0, 1, 0], "dkl"), axis_name([0, 0, -1], "dkl"), axis_name([0, 1, 1], "dkl")
+    ('L−M', '−S', '(0, 1, 1)')
+    """
     names = COMPONENTS.get(space, ("1st", "2nd", "3rd"))
     if isinstance(vector, list) and len(vector) == 3 and all(isinstance(v, (int, float)) for v in vector):
         nonzero = [i for i, v in enumerate(vector) if v != 0]
@@ -131,7 +173,19 @@ def axis_name(vector, space: str) -> str:
 
 
 def variable_spaces(protocol) -> dict[str, str]:
-    """The colour space each 3-vector variable is used in (``{'axis': 'dkl'}``), to name its components."""
+    """The colour space each 3-vector variable is used in, to name its components.
+
+    Parameters
+    ----------
+    protocol
+        A protocol as the form holds it (it need not validate; anything but an object gives ``{}``).
+
+    Returns
+    -------
+    dict of str to str
+        Variable name (without ``$``) → space (``{'axis': 'dkl'}``), from the stimuli's colours and the responses'
+        axes (DKL when a response names no space); the first use wins.
+    """
     found: dict[str, str] = {}
     if not isinstance(protocol, dict):
         return found
@@ -154,7 +208,22 @@ def variable_spaces(protocol) -> dict[str, str]:
 
 
 def component_names(path: str, protocol=None) -> tuple[str, ...] | None:
-    """Names of the entries of the vector or list at ``path`` (``('luminance', 'L−M', 'S')``), or None."""
+    """Names of the entries of the vector or list at ``path``.
+
+    Parameters
+    ----------
+    path
+        A JSON path (``stimuli[1].colour.dkl``, ``trial[2].response.keys``).
+    protocol
+        The protocol, to find a response's space, plane or method and the spaces variables are used in; or
+        ``None``.
+
+    Returns
+    -------
+    tuple of str or None
+        One name per entry: colour components (``('luminance', 'L−M', 'S')``), ``('low', 'high')`` for limits, the
+        plane's directions, the role of each response key; ``None`` when the entries have no names of their own.
+    """
     parts = parse_path(path)
     if not parts:
         return None
@@ -194,13 +263,27 @@ def _plane_axis(response: dict, index: int) -> str:
 
 
 def short_label(path: str, protocol=None) -> str:
-    """The label of the field at ``path`` without where it sits: "Duration (s)", "L−M", "Key for more"."""
+    """The label of the field at ``path`` without where it sits.
+
+    Parameters
+    ----------
+    path
+        A JSON path (``trial[1].duration_s``); ``""`` for the whole protocol.
+    protocol
+        The protocol, to name stimuli, phases and vector entries; or ``None``.
+
+    Returns
+    -------
+    str
+        "Duration (s)", "L−M", "Key for more", "Stimulus 2 (test_disc)" (list positions counted from 1); a key
+        with no label is written with spaces and a capital ("Some key").
+    """
     parts = parse_path(path)
     if not parts:
         return "Protocol"
     if isinstance(parts[-1], int):
         parent = ".".join(str(p) for p in parts[:-1])
-        names = component_names(_path_text(parts[:-1]), protocol)
+        names = component_names(path_text(parts[:-1]), protocol)
         if names and parts[-1] < len(names):
             return names[parts[-1]]
         if parts[-2:-1] == ["stimuli"] and len(parts) == 2:
@@ -229,7 +312,24 @@ def short_label(path: str, protocol=None) -> str:
     return str(key).replace("_", " ").capitalize()
 
 
-def _path_text(parts) -> str:
+def path_text(parts) -> str:
+    """Join keys and list indices into a JSON path (the inverse of :func:`parse_path`).
+
+    Parameters
+    ----------
+    parts
+        Keys (``str``) and 0-based list indices (``int``), outermost first.
+
+    Returns
+    -------
+    str
+        The path, e.g. ``trial[1].response.keys[0]``; ``""`` for no parts.
+
+    Examples
+    --------
+    >>> path_text(["trial", 1, "duration_s"])
+    'trial[1].duration_s'
+    """
     text = ""
     for part in parts:
         text += f"[{part}]" if isinstance(part, int) else (f".{part}" if text else str(part))
@@ -245,7 +345,7 @@ def _where(parts, protocol) -> str:
         name = _at(protocol, ["stimuli", parts[1], "name"])
         text = f"stimulus {parts[1] + 1}" + (f" ({name})" if isinstance(name, str) and name else "")
         if len(parts) > 3 and parts[2] in ("colour", "second_colour"):
-            text = f"the {_lower_first(short_label(_path_text(parts[:3]), protocol))} of {text}"
+            text = f"the {_lower_first(short_label(path_text(parts[:3]), protocol))} of {text}"
         return text
     if head == "trial" and len(parts) > 1 and isinstance(parts[1], int):
         kind = _at(protocol, ["trial", parts[1], "phase"])
@@ -264,7 +364,21 @@ def _where(parts, protocol) -> str:
 
 
 def field_label(path: str, protocol=None) -> str:
-    """A field's label with where it sits: ``trial[1].duration_s`` → "Duration (s) of phase 2 (adapt)"."""
+    """A field's label with where it sits, as the form and error messages name it.
+
+    Parameters
+    ----------
+    path
+        A JSON path (``trial[1].duration_s``).
+    protocol
+        The protocol, to name the stimulus or phase by its name or kind; or ``None``.
+
+    Returns
+    -------
+    str
+        E.g. "Duration (s) of phase 2 (adapt)", "L−M in DKL (luminance, L−M, S) of the colour of stimulus 2
+        (test_disc)"; a stimulus, phase, variable or level is named by its own label alone.
+    """
     parts = parse_path(path)
     label = short_label(path, protocol)
     container = parts[:-1]
@@ -274,7 +388,7 @@ def field_label(path: str, protocol=None) -> str:
         return label
     where = _where(container if isinstance(parts[-1], int) and len(parts) > 2 else parts, protocol)
     if isinstance(parts[-1], int) and len(parts) > 1:
-        return f"{label} in {_lower_first(short_label(_path_text(container), protocol))}" + (f" of {where}" if where
+        return f"{label} in {_lower_first(short_label(path_text(container), protocol))}" + (f" of {where}" if where
                                                                                      else "")
     return f"{label} of {where}" if where else label
 
@@ -282,85 +396,3 @@ def field_label(path: str, protocol=None) -> str:
 def _lower_first(text: str) -> str:
     """"Duration (s)" → "duration (s)", but "DKL (…)" and "L−M" keep their capitals."""
     return text[0].lower() + text[1:] if len(text) > 1 and text[1].islower() else text
-
-
-def _number(value) -> str:
-    return f"{value:g}" if isinstance(value, float) else str(value)
-
-
-def _shown(value) -> str:
-    text = json.dumps(value, ensure_ascii=False)
-    return text if len(text) < 60 else "…"
-
-
-TYPE_WORDS = {"number": "a number", "integer": "a whole number", "string": "text", "array": "a list",
-              "object": "a group of fields", "boolean": "yes or no (true or false)"}
-
-
-def explain_schema_error(error, protocol=None) -> str:
-    """One JSON Schema error (``jsonschema.ValidationError``) as a sentence naming the field by its label."""
-    path = _path_text(list(error.absolute_path))
-    label = field_label(path, protocol) if path else "The protocol"
-    value = error.instance
-    rule = error.validator
-    limit = error.validator_value
-    if rule == "minimum":
-        return f"{label} must be {_number(limit)} or more (it is {_shown(value)})"
-    if rule == "exclusiveMinimum":
-        return f"{label} must be more than {_number(limit)} (it is {_shown(value)})"
-    if rule == "maximum":
-        return f"{label} must be {_number(limit)} or less (it is {_shown(value)})"
-    if rule == "exclusiveMaximum":
-        return f"{label} must be less than {_number(limit)} (it is {_shown(value)})"
-    if rule == "type":
-        wanted = " or ".join(TYPE_WORDS.get(t, t) for t in (limit if isinstance(limit, list) else [limit]))
-        return f"{label} must be {wanted}, not {_shown(value)}"
-    if rule == "enum":
-        return f"{label}: {_shown(value)} is not allowed; use one of: " + \
-            ", ".join(json.dumps(v) for v in limit)
-    if rule == "const":
-        return f"{label} must be {json.dumps(limit)}, not {_shown(value)}"
-    if rule == "required":
-        missing = [k for k in limit if isinstance(value, dict) and k not in value]
-        names = ", ".join(_lower_first(short_label(f"{path}.{k}" if path else k, protocol)) for k in missing)
-        return f"{label} needs {names or 'more fields'}"
-    if rule == "additionalProperties":
-        allowed = sorted(error.schema.get("properties", {}))
-        extra = sorted(set(value) - set(allowed)) if isinstance(value, dict) else []
-        text = f"{label} has unexpected field(s) {', '.join(extra)}"
-        return text + (f"; allowed: {', '.join(allowed)}" if allowed else "")
-    if rule == "minItems":
-        return f"{label} needs at least {limit} entr{'y' if limit == 1 else 'ies'}"
-    if rule == "maxItems":
-        return f"{label} takes at most {limit} entr{'y' if limit == 1 else 'ies'}"
-    if rule == "minLength":
-        return f"{label} must not be empty"
-    if rule == "pattern":
-        if "\\$" in limit:
-            return f"{label} is {_shown(value)}, which is not allowed here; give a number or a '$variable' reference"
-        if limit.startswith("^[0-9a-f]"):
-            return f"{label} must be 64 hexadecimal digits"
-        return f"{label} {_shown(value)} must start with a letter or '_' and use letters, digits, '_' and '-' only"
-    if rule in ("minProperties", "maxProperties") and "cone_contrast" in error.schema.get("properties", {}):
-        return f"{label}: give exactly one colour space ({', '.join(sorted(error.schema['properties']))})"
-    if rule == "minProperties":
-        return f"{label} needs at least {limit} entr{'y' if limit == 1 else 'ies'}"
-    if rule == "propertyNames":
-        return f"{label}: names must start with a letter or '_' and use letters, digits and '_' only"
-    if rule in ("oneOf", "anyOf"):
-        return f"{label} has the wrong form ({_shown(value)}); see protocols/README.md for what it takes"
-    return f"{label}: {error.message}"
-
-
-_RAW_KEY = re.compile(r"\b[a-z]+(?:_[a-z]+)+\b")
-
-
-def plain_words(message: str) -> str:
-    """Raw JSON keys with an underscore in a message (``duration_s``) replaced by their labels ("duration (s)")."""
-    def replace(match):
-        key = match.group(0)
-        label = KEY_LABELS.get(key)
-        if label is None or key in ("cone_contrast", "macleod_boynton", "after_image", "centre_surround"):
-            return key
-        return label[0].lower() + label[1:]
-    return _RAW_KEY.sub(replace, message)

@@ -15,7 +15,10 @@ from importlib import resources
 from ..errors import NotFoundError
 from .protocol import validate_protocol
 
-__all__ = ["paradigms", "paradigm_protocol"]
+__all__ = ["paradigms", "paradigm_protocol", "SEED_LIMIT"]
+
+SEED_LIMIT = 1_000_000
+"""A new protocol's random seed is a whole number from 0 to this less one: six digits, easy to read out and copy."""
 
 
 @lru_cache(maxsize=1)
@@ -71,5 +74,5 @@ def paradigm_protocol(key: str, title: str | None = None, seed: int | None = Non
     protocol = copy.deepcopy(data["protocol"])
     if title:
         protocol["about"]["title"] = title
-    protocol["conditions"]["seed"] = seed if seed is not None else secrets.randbelow(1_000_000)
+    protocol["conditions"]["seed"] = seed if seed is not None else secrets.randbelow(SEED_LIMIT)
     return protocol

@@ -27,10 +27,14 @@ from numpy.typing import NDArray
 
 from .timecourse import STEPS, course_plan
 
-__all__ = ["PROFILE_SCALE", "PLAN_RULE", "build_plan", "patch_profile", "patch_indices", "plan_sha256"]
+__all__ = ["PROFILE_SCALE", "PLAN_RULE", "PATCH_RADIUS_SIGMA", "build_plan", "patch_profile", "patch_indices", "plan_sha256"]
 
 PROFILE_SCALE = 16384
 """Whole-number scale of a patch's spatial profile (2¹⁴: a product with a step stays far below 2⁵³)."""
+
+PATCH_RADIUS_SIGMA = 2
+"""A per-pixel patch reaches this many σ from its centre, where the Gaussian is exp(−2) ≈ 0.135 of its peak (a
+window of ±2σ for Gaussian blobs and Gabor patches is common practice, from memory)."""
 
 PLAN_RULE = "stimlab-frames-1"
 """Names the rules of this module and of timecourse.py, so that a stored plan says how it was made."""
@@ -58,7 +62,7 @@ def patch_profile(geometry: dict) -> dict:
     (2, 16384)
     """
     sigma = float(geometry["sigma_px"])
-    half = math.ceil(2 * sigma)
+    half = math.ceil(PATCH_RADIUS_SIGMA * sigma)
     d = np.arange(-half, half + 1)
     dx = d[None, :]
     dy = -d[:, None]
@@ -69,7 +73,7 @@ def patch_profile(geometry: dict) -> dict:
         theta = math.radians(geometry.get("orientation_deg", 0.0))
         value = value * np.cos(2 * np.pi * cycles * (dx * math.cos(theta) + dy * math.sin(theta)))
     values = np.floor(PROFILE_SCALE * value + 0.5).astype(int)
-    inside = r2 <= 4 * sigma * sigma
+    inside = r2 <= (PATCH_RADIUS_SIGMA * sigma) ** 2
     return {"half": half, "values": [int(v) if ok else None for v, ok in zip(values.ravel(), inside.ravel())]}
 
 

@@ -15,7 +15,8 @@ from ..colorimetry.observers import OBSERVERS
 from ..errors import InputError
 from ..jsonio import check_value, loads
 from ..schemas import deepest_error, json_path, schema, validator
-from .labels import explain_schema_error, field_label, plain_words
+from .labels import field_label
+from .messages import explain_schema_error, plain_words
 
 __all__ = ["load_protocol", "parse_protocol", "validate_protocol", "protocol_schema", "json_path",
            "protocol_sha256", "CAUTION"]
@@ -79,6 +80,9 @@ def validate_protocol(data, name: str = "protocol") -> dict:
 
 MAX_CONDITIONS = 1_000  # documented in protocols/README.md; real designs have tens
 MAX_TRIALS = 20_000  # about 11 hours at 2 s a trial
+MAX_LEVELS = 100  # levels of one variable: the schema's maxItems / maxProperties, checked before the schema
+MAX_ENTRIES = 64  # stimuli or phases: the schema's maxItems, checked before the schema
+MAX_SCHEMA_DEPTH = 12  # deeper than the protocol schema nests, so the walk stops on a schema that refers to itself
 
 
 def _check_lengths(data, name: str) -> None:
@@ -88,12 +92,12 @@ def _check_lengths(data, name: str) -> None:
     conditions = data.get("conditions")
     variables = conditions.get("variables") if isinstance(conditions, dict) else None
     for key, values in (variables.items() if isinstance(variables, dict) else ()):
-        if isinstance(values, (list, dict)) and len(values) > 100:
-            raise InputError(f"{len(values):,} values; a variable has at most 100", file=name,
+        if isinstance(values, (list, dict)) and len(values) > MAX_LEVELS:
+            raise InputError(f"{len(values):,} values; a variable has at most {MAX_LEVELS}", file=name,
                              field=f"conditions.variables.{key}")
     for key in ("stimuli", "trial"):
-        if isinstance(data.get(key), list) and len(data[key]) > 64:
-            raise InputError(f"{len(data[key]):,} entries; at most 64 are allowed", file=name, field=key)
+        if isinstance(data.get(key), list) and len(data[key]) > MAX_ENTRIES:
+            raise InputError(f"{len(data[key]):,} entries; at most {MAX_ENTRIES} are allowed", file=name, field=key)
 
 
 def _check_size(data: dict, variables: dict, name: str) -> None:
@@ -339,7 +343,7 @@ def schema_enums() -> dict[str, tuple]:
 
     def walk(node, path, depth=0):
         node = resolve(node)
-        if not isinstance(node, dict) or depth > 12:
+        if not isinstance(node, dict) or depth > MAX_SCHEMA_DEPTH:
             return
         if "enum" in node and path:
             found[path] = tuple(node["enum"])

@@ -17,9 +17,35 @@ from ..colorimetry.stimulus import Background
 from ..errors import InputError
 from .compiled import CompiledResponse
 
-__all__ = ["compile_response", "ladder"]
+__all__ = ["compile_response", "ladder", "MAX_LADDER_POSITIONS", "MAX_POSITIONS", "DEFAULT_STAIRCASE_RULE",
+           "DEFAULT_STOP_REVERSALS", "DEFAULT_MAX_TRIALS", "DEFAULT_COARSE_STEPS"]
+
+MAX_LADDER_POSITIONS = 20_000
+"""Most positions on one ladder: a fine step of 10⁻⁴ over limits of ±1 (far finer than one device level in cone
+contrast), while the table of device levels sent to the browser stays small. A design limit of this program."""
 
 MAX_POSITIONS = 250_000
+"""Most positions in a plane (all pairs of ladder positions): 500 per direction. A design limit of this program,
+for the same reason."""
+
+POSITION_TOLERANCE = 1e-9
+"""Slack for binary rounding of decimal input, in steps when counting steps and in axis units when comparing with
+limits: limits 0 to 0.3 at a step of 0.1 give 0.3 / 0.1 = 2.9999999999999996 steps, which must count as 3 (IEEE 754
+double precision; common practice)."""
+
+DEFAULT_COARSE_STEPS = 10
+"""Fine steps in a coarse step (with the coarse key held) when ``step_coarse`` is not given (common practice)."""
+
+DEFAULT_STAIRCASE_RULE = {"up": 1, "down": 2}
+"""One step up (harder → easier) after one wrong answer, one step down after two right in a row: the transformed
+up-down rule that converges on 70.7 % correct (Levitt 1971). Copy it before changing it."""
+
+DEFAULT_STOP_REVERSALS = 8
+"""A staircase stops after this many reversals when the protocol does not say (common practice: 6 to 12 reversals,
+the threshold taken from the last few; Levitt 1971 discusses the choice)."""
+
+DEFAULT_MAX_TRIALS = 50
+"""A staircase stops after this many trials at most when the protocol does not say (common practice)."""
 
 
 def ladder(low: float, high: float, step: float, where: str) -> NDArray[np.float64]:
@@ -37,26 +63,26 @@ def ladder(low: float, high: float, step: float, where: str) -> NDArray[np.float
     Returns
     -------
     NDArray[np.float64]
-        The positions, shape (n,), 1 ≤ n ≤ 20,000.
+        The positions, shape (n,), 1 ≤ n ≤ 20,000 (:data:`MAX_LADDER_POSITIONS`).
 
     Raises
     ------
     InputError
-        If more than 20,000 positions would result.
+        If more than :data:`MAX_LADDER_POSITIONS` positions would result.
 
     Examples
     --------
     >>> ladder(-0.1, 0.1, 0.05, "step_fine")
     array([-0.1 , -0.05,  0.  ,  0.05,  0.1 ])
     """
-    count = int(np.floor((high - low) / step + 1e-9)) + 1
-    if count > 20_000:
+    count = int(np.floor((high - low) / step + POSITION_TOLERANCE)) + 1
+    if count > MAX_LADDER_POSITIONS:
         raise InputError(f"{count} positions between the limits at this step; use a larger fine step or narrower "
-                         "limits (at most 20,000)", field=where)
+                         f"limits (at most {MAX_LADDER_POSITIONS:,})", field=where)
     return low + step * np.arange(count)
 
 
-def _table(background: Background, LMS: np.ndarray):
+def _table(background: Background, LMS: NDArray[np.float64]):
     RGB = background.model.LMS_to_RGB_linear(LMS)
     device, inside = RGB_linear_to_device_or_none(RGB, background.model.level_outputs)
     return device, inside, RGB
@@ -132,7 +158,7 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
     LMS = background.colour_to_LMS(space, coordinates)
     device, inside, RGB = _table(background, LMS)
     axis_limits = per_axis or [[float(low), float(high)]] * len(axes)
-    reachable = np.all([(grid[:, d] >= lo - 1e-9) & (grid[:, d] <= hi + 1e-9)
+    reachable = np.all([(grid[:, d] >= lo - POSITION_TOLERANCE) & (grid[:, d] <= hi + POSITION_TOLERANCE)
                         for d, (lo, hi) in enumerate(axis_limits)], axis=0)
     if per_axis:
         device = [d if ok else None for d, ok in zip(device, reachable)]
@@ -150,10 +176,10 @@ def compile_response(response: dict, stimuli: dict, background: Background, wher
     if start.size != len(axes):
         raise InputError(f"start needs {len(axes)} value(s), one per adjustment direction", field=f"{where}.start")
     jitter = float(response.get("start_jitter", 0.0))
-    coarse = int(round(float(response.get("step_coarse", 10 * fine)) / fine))
+    coarse = int(round(float(response.get("step_coarse", DEFAULT_COARSE_STEPS * fine)) / fine))
 
     # Each direction's first and last reachable position index.
-    bounds = [(int(np.ceil((lo - low) / fine - 1e-9)), int(np.floor((hi - low) / fine + 1e-9)))
+    bounds = [(int(np.ceil((lo - low) / fine - POSITION_TOLERANCE)), int(np.floor((hi - low) / fine + POSITION_TOLERANCE)))
               for lo, hi in axis_limits]
     nominal = [float(s) for s in start]
 
@@ -190,8 +216,8 @@ def _staircase(response: dict, background: Background, space: str, where: str) -
                 "positions": {"low": low, "step": smallest, "count": int(values.size), "dimensions": 1},
                 "start_position": int(round((start - low) / smallest)),
                 "step_positions": [int(round(s / smallest)) for s in steps],
-                "rule": response.get("rule", {"up": 1, "down": 2}),
-                "stop_reversals": response.get("stop_reversals", 8),
-                "max_trials": response.get("max_trials", 50),
+                "rule": response.get("rule", dict(DEFAULT_STAIRCASE_RULE)),
+                "stop_reversals": response.get("stop_reversals", DEFAULT_STOP_REVERSALS),
+                "max_trials": response.get("max_trials", DEFAULT_MAX_TRIALS),
                 "origin_lms": background.LMS_0.tolist(),
                 "axis_lms": (background.colour_to_LMS(space, axis) - background.LMS_0)[None, :].tolist()})

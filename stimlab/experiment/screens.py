@@ -26,7 +26,17 @@ in chromatic adaptation studies; the protocol's ``session.pre_adaptation_s`` set
 DEFAULT_TEXT_LUMINANCE = -0.3
 """Text colour: this offset from the background along the DKL luminance axis (pooled cone contrast, so about 17 %
 luminance contrast), a darker neutral that is readable without pulling adaptation away from the background. On a
-mid-grey background its change stays under the WCAG 2.2 flash transition of 10 % of the white's luminance."""
+mid-grey background its change stays under the WCAG 2.2 flash transition of 10 % of the white's luminance.
+
+This is a deliberate trade-off: on the demo display's mid-grey it gives a contrast ratio of about 1.2:1, far below
+the WCAG 2.2 contrast minimum for text (success criterion 1.4.3, 4.5:1), which assumes a reader adapted to the page
+rather than to a test background. The runner draws the text about 0.6° high (static/js/runner/screens.js) to keep
+it legible at this contrast; the protocol's ``session.text_luminance`` sets a stronger offset where adaptation
+matters less."""
+
+GAMUT_TOLERANCE = 1e-9
+"""Linear RGB this far outside 0..1 still counts as inside the gamut: rounding in the matrix inverse, far below one
+device level (common practice)."""
 
 RESERVED_KEYS = ("Escape",)
 """Keys the runner keeps for itself: Escape pauses."""
@@ -190,7 +200,7 @@ def scale_durations(protocol: dict, factor: float) -> dict:
 def _text_colour(background, offset: float) -> dict:
     LMS = background.colour_to_LMS("dkl", [offset, 0.0, 0.0])
     RGB = background.model.LMS_to_RGB_linear(LMS)
-    inside = bool(np.all(RGB >= -1e-9) and np.all(RGB <= 1 + 1e-9))
+    inside = bool(np.all(RGB >= -GAMUT_TOLERANCE) and np.all(RGB <= 1 + GAMUT_TOLERANCE))
     device = background.to_device("rgb_linear", np.clip(RGB, 0, 1)).tolist() if inside else None
     return {"dkl_luminance": offset, "lms": LMS.tolist(), "rgb_linear": RGB.tolist(), "device": device,
             "in_gamut": inside}
@@ -240,12 +250,20 @@ def add_screens(compiled, protocol: dict, rng) -> None:
     Parameters
     ----------
     compiled
-        The :class:`~stimlab.experiment.compile.Compiled` protocol; its ``data`` is changed in place (durations
+        The :class:`~stimlab.experiment.compiled.Compiled` protocol; its ``data`` is changed in place (durations
         in whole frames at the display's refresh rate, text colour in device levels).
     protocol
         The protocol it was compiled from (its ``session`` settings).
     rng
-        A :class:`numpy.random.Generator` for practice trials' adjustment starts.
+        The session's :class:`random.Random`, seeded with the recorded seed, for practice trials' adjustment starts
+        (drawn after the main trials' draws, so adding practice leaves the main trials' starts unchanged).
+
+    Returns
+    -------
+    None
+        ``compiled.data`` gains ``keys``, ``text`` (device levels, ``None`` when out of gamut), ``pre_adaptation``
+        (s and whole frames), ``screens``, ``breaks`` and, with practice, a ``practice`` schedule and practice
+        trials first.
 
     Raises
     ------

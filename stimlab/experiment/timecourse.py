@@ -31,7 +31,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 __all__ = ["DROPPED_FRAME_PERIODS", "STEPS", "phase_frames", "square_period_frames", "shown_frequency_hz",
-           "course_plan", "steps_at", "steps_for_phase"]
+           "course_plan", "steps_at", "steps_for_phase", "MIN_SQUARE_PERIOD_FRAMES"]
 
 STEPS = 255
 """Modulation steps either side of the background: the size of the compiled tables' half range."""
@@ -39,6 +39,10 @@ STEPS = 255
 DROPPED_FRAME_PERIODS = 1.5
 """A frame interval of this many refresh periods or more is a dropped frame (common practice). The compiler sends
 it to the runner, which flags frames by it; the timing summary and figures read it from here."""
+
+MIN_SQUARE_PERIOD_FRAMES = 2
+"""Shortest square-flicker period in frames: one frame on and one off, i.e. flicker at half the refresh rate at
+most (the Nyquist limit of a display refreshed at R Hz is R/2)."""
 
 MAX_PERIOD_FRAMES = 1_000_000
 """Longest exact sine period sent as one cycle; a frequency needing more is approximated to this denominator."""
@@ -97,7 +101,7 @@ def square_period_frames(frequency_hz: float, refresh_hz: float) -> int:
     >>> square_period_frames(12, 60), square_period_frames(15, 60), square_period_frames(40, 60)
     (5, 4, 2)
     """
-    return max(2, math.floor(_exact(refresh_hz) / _exact(frequency_hz) + Fraction(1, 2)))
+    return max(MIN_SQUARE_PERIOD_FRAMES, math.floor(_exact(refresh_hz) / _exact(frequency_hz) + Fraction(1, 2)))
 
 
 def _sine_period(frequency_hz: float, refresh_hz: float) -> tuple[int, int]:
@@ -134,7 +138,7 @@ def shown_frequency_hz(course: dict, refresh_hz: float) -> float | None:
     return float(refresh_hz) * n / d
 
 
-def _cycle_modulation(course: dict, refresh_hz: float) -> np.ndarray:
+def _cycle_modulation(course: dict, refresh_hz: float) -> NDArray[np.float64]:
     kind = course.get("kind", "steady")
     if kind == "steady":
         return np.ones(1)
