@@ -241,16 +241,27 @@ def test_the_runner_keeps_its_context_when_another_script_reads_the_canvas_first
     assert page.evaluate("window.stimlabSchedule.painter.ctx.getContextAttributes().colorType") == "float16"
 
 
-def test_a_window_smaller_than_the_profile_keeps_the_centre_and_the_text_in_view(server, browser):
-    """A laptop window (800×600) on the 1920×1080 demo profile: the canvas is centred, so the screen centre is the
-    profile's centre, every line of the instructions (legend included) lies in the part in view, and the ready screen
-    says the edges fall outside."""
+def test_a_screen_smaller_than_the_profile_stops_a_session_and_a_dry_run_keeps_the_centre_in_view(server, browser):
+    """A laptop screen (800×600) for the 1920×1080 demo profile: a real session stops before the first frame, naming
+    both sizes; a dry run goes on with the canvas centred (the screen centre is the profile's centre), every line of
+    the instructions (legend included) in the part in view, and a note that the edges fall outside."""
     context = browser.new_context(viewport={"width": 800, "height": 600}, screen={"width": 800, "height": 600},
                                   bypass_csp=True)
     page = context.new_page()
     try:
         session_id = start(page, server, blocked_protocol(), name="small.json", participant="P02")
         open_runner(page, server, session_id)
+        assert page.evaluate("window.stimlabState") == "stopped"
+        message = page.locator("#runner-message").inner_text()
+        assert "not the profiled screen" in message and "800×600" in message and "1920×1080" in message
+        csrf = token(page, server.url)
+        created = page.request.post(f"{server.url}/api/sessions", headers={"X-CSRF-Token": csrf},
+                                    data={"protocol": "small.json", "display": 1, "participant": "P02",
+                                          "dry_run_factor": 0.1})
+        assert created.status == 201, created.text()
+        session_id = created.json()["id"]
+        open_runner(page, server, session_id)
+        assert page.evaluate("window.stimlabState") == "ready"
         box = page.locator("#stimulus").bounding_box()
         assert (box["x"] + box["width"] / 2, box["y"] + box["height"] / 2) == (400, 300)
         panel = page.evaluate("window.stimlabScreens.panel")

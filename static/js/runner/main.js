@@ -108,6 +108,14 @@ function checkFailure(data, checks) {
       `Measured ${refresh.refresh_hz.toFixed(2)} Hz (median frame interval ${refresh.median_interval_ms.toFixed(3)} ms); ` +
       `the profile says ${data.display.refresh_hz} Hz. Set the monitor to its calibrated mode, or use its profile.`];
   }
+  if (!checks.geometry.screen_matches && !data.dry_run) {
+    const [w, h] = checks.geometry.screen_px;
+    const [pw, ph] = data.display.size_px;
+    return ["This is not the profiled screen",
+      `This screen is ${w}×${h} px but the display profile says ${pw}×${ph} px: sizes in degrees and positions would ` +
+      "be wrong, and stimuli away from the centre could fall off the screen. Open the runner on the profiled monitor " +
+      "at its native resolution with the browser zoom at 100 %, or start a dry run to try the protocol here."];
+  }
   if (!checks.colour.passed) {
     const first = checks.colour.mismatches[0];
     return ["The colour pipeline changes the device values",
