@@ -72,6 +72,26 @@ def test_fine_steps_below_one_digital_level_are_flagged(demo, protocol_named):
     assert report["passed"]  # coarse grain is a warning, not a failure
 
 
+def _indistinct(report):
+    return [f for f in found(report, "bit_depth", "warn") if "cannot tell these conditions apart" in f["message"]]
+
+
+def test_conditions_a_display_quantises_to_the_same_levels_warn(demo, protocol_named):
+    protocol = protocol_named("afterimage_duration")
+    # Two adapters 1e-5 apart in L−M contrast: far below one 10-bit level, so both compile to the same device levels.
+    protocol["conditions"]["variables"] = {"adapter": {"a": [0, 0.05, 0], "b": [0, 0.05001, 0]}}
+    (warning,) = _indistinct(audit(protocol, demo))
+    assert warning["values"]["same_as"] == "adapter=a"
+
+
+def test_out_of_gamut_conditions_are_not_called_indistinguishable(demo, protocol_named):
+    protocol = protocol_named("afterimage_null")
+    protocol["conditions"]["variables"]["axis"] = {"L-M": [0, 0.2, 0]}  # both polarities leave the gamut
+    report = audit(protocol, demo)
+    assert found(report, "gamut", "fail")  # the gamut check reports them
+    assert _indistinct(report) == []  # no device levels to compare: not "the same device values"
+
+
 def test_predicted_null_outside_the_limits_fails_with_the_margin(demo, protocol_named):
     protocol = protocol_named("afterimage_null")
     protocol["trial"][2]["response"]["limits"] = [-0.6, 0.6]

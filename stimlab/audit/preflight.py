@@ -285,8 +285,11 @@ def _prediction(findings, compiled, adaptation_model, index, response, label):
 def _distinct_conditions(findings, compiled):
     seen = {}
     for condition in compiled.data["conditions"]:
-        key = tuple((n, tuple(map(tuple, [s.get("colour", {}).get("device") or [], s.get("second_colour", {})
-                                           .get("device") or []]))) for n, s in sorted(condition["stimuli"].items()))
+        colours = [(name, [stimulus.get("colour"), stimulus.get("second_colour")])
+                   for name, stimulus in sorted(condition["stimuli"].items())]
+        if any(c is not None and c.get("device") is None for _, pair in colours for c in pair):
+            continue  # out of gamut: the gamut check fails it; it has no device values to compare
+        key = tuple((name, tuple(tuple(c["device"]) if c is not None else () for c in pair)) for name, pair in colours)
         if key in seen and seen[key] != condition["labels"]:
             findings.add("bit_depth", "warn", condition["label"],
                          f"shows exactly the same device values as condition '{seen[key]}'; the display cannot "
