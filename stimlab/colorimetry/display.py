@@ -278,9 +278,15 @@ class DisplayModel:
 
     @cached_property
     def rods(self) -> RodResponse | None:
-        """Rod excitation (scotopic cd/m²) of the primaries and black; ``None`` for a profile given as xyY.
+        """Rod excitation of the primaries and black, computed once per model.
 
-        See :func:`stimlab.colorimetry.rods.rod_response` (CIE 1951 scotopic V′(λ)).
+        Returns
+        -------
+        RodResponse or None
+            Rod excitation in scotopic cd/m² (``K′m · ∫ spectrum · V′(λ) dλ``, CIE 1951 scotopic V′(λ) from
+            colour-science's datasets) of each primary at full drive above black and of black; ``None`` for a
+            profile given as xyY, which has no spectra to integrate (see
+            :func:`stimlab.colorimetry.rods.rod_response`).
         """
         return rod_response(self)
 
@@ -306,36 +312,100 @@ class DisplayModel:
         return as_triplets(RGB, "RGB") @ self.M_LMS.T + self.LMS_black
 
     def LMS_to_RGB_linear(self, LMS: ArrayLike) -> NDArray[np.float64]:
-        """Linear RGB that produces the cone excitations ``LMS``, shape (..., 3) → (..., 3).
+        """Linear RGB that produces the cone excitations ``LMS``, ``M_LMS⁻¹ · (LMS − LMS_black)``.
 
-        The result may lie outside 0..1 (out of gamut); nothing is clipped.
+        Parameters
+        ----------
+        LMS
+            Cone excitations, shape (..., 3), scaled so that ``w_L·L + w_M·M`` is luminance in cd/m²; any finite
+            values.
+
+        Returns
+        -------
+        ndarray of float64, shape (..., 3)
+            Linear RGB, fraction of each primary's full drive above black: 0..1 in gamut, and possibly outside
+            0..1 (out of gamut); nothing is clipped.
+
+        Raises
+        ------
+        ValueError
+            If the shape is not (..., 3) or a value is NaN or infinite.
         """
         return (as_triplets(LMS, "LMS") - self.LMS_black) @ self.M_LMS_inverse.T
 
     def RGB_linear_to_XYZ(self, RGB: ArrayLike) -> NDArray[np.float64]:
-        """CIE 1931 XYZ of linear RGB (shape (..., 3), 0..1 in gamut), Y in cd/m², shape (..., 3)."""
+        """CIE 1931 XYZ of linear RGB, ``XYZ_black + M_XYZ · rgb``.
+
+        Parameters
+        ----------
+        RGB
+            Linear RGB, shape (..., 3), 0..1 in gamut (values outside are extrapolated linearly).
+
+        Returns
+        -------
+        ndarray of float64, shape (..., 3)
+            CIE 1931 2° XYZ (CIE 015:2018, from memory), Y in cd/m² (≥ 0 in gamut).
+
+        Raises
+        ------
+        ValueError
+            If the shape is not (..., 3) or a value is NaN or infinite.
+        """
         return as_triplets(RGB, "RGB") @ self.M_XYZ.T + self.XYZ_black
 
     def RGB_linear_to_luminance(self, RGB: ArrayLike) -> NDArray[np.float64]:
-        """Luminance of linear RGB (shape (..., 3)) under the observer's V(λ), ``w_L·L + w_M·M``, cd/m², shape (...).
+        """Luminance of linear RGB under the observer's V(λ), ``w_L·L + w_M·M``.
 
         For the Stockman & Sharpe observers this is the CIE 2008 V(λ) (CIE 170-2:2015), so it differs slightly
         from the CIE 1931 Y of :meth:`RGB_linear_to_XYZ`.
+
+        Parameters
+        ----------
+        RGB
+            Linear RGB, shape (..., 3), 0..1 in gamut (values outside are extrapolated linearly).
+
+        Returns
+        -------
+        ndarray of float64, shape (...)
+            Luminance, cd/m² (≥ 0 in gamut).
+
+        Raises
+        ------
+        ValueError
+            If the shape is not (..., 3) or a value is NaN or infinite.
         """
         LMS = self.RGB_linear_to_LMS(RGB)
         return self.observer.w_L * LMS[..., 0] + self.observer.w_M * LMS[..., 1]
 
     @property
     def white_luminance(self) -> float:
-        """Luminance of full drive on all channels, cd/m²."""
+        """Luminance of full drive on all channels (linear RGB (1, 1, 1)), under the observer's V(λ).
+
+        Returns
+        -------
+        float
+            Luminance, cd/m², > 0 for a usable display.
+        """
         return float(self.RGB_linear_to_luminance(np.ones(3)))
 
     @property
     def black_luminance(self) -> float:
-        """Luminance of all-zero drive, cd/m²."""
+        """Luminance of all-zero drive (linear RGB (0, 0, 0)): the display's black, under the observer's V(λ).
+
+        Returns
+        -------
+        float
+            Luminance, cd/m², ≥ 0.
+        """
         return float(self.RGB_linear_to_luminance(np.zeros(3)))
 
     def primaries_xy(self) -> NDArray[np.float64]:
-        """CIE 1931 xy chromaticity of each primary above black, shape (3, 2), rows red, green, blue, each 0..1."""
+        """CIE 1931 xy chromaticity of each primary at full drive above black.
+
+        Returns
+        -------
+        ndarray of float64, shape (3, 2)
+            Rows red, green, blue; columns x, y, each 0..1 (CIE 015:2018, from memory).
+        """
         return np.array([colour.XYZ_to_xy(self.M_XYZ[:, i]) for i in range(3)])
 
