@@ -16,12 +16,12 @@ def test_srgb_curve_known_values():
     assert sRGB_decode(128) == pytest.approx(((128 / 255 + 0.055) / 1.055) ** 2.4)
 
 
-@pytest.mark.parametrize("model", [PowerTransfer(2.4), GainOffsetGammaTransfer(1.1, -0.1, 2.2),
-                                   TableTransfer((0, 0.3, 1), (0, 0.1, 1))])
-def test_models_survive_saving(model):
-    again = transfer_from_dict({"model": model.name, "parameters": model.parameters()})
+@pytest.mark.parametrize("transfer", [PowerTransfer(2.4), GainOffsetGammaTransfer(1.1, -0.1, 2.2),
+                                      TableTransfer((0, 0.3, 1), (0, 0.1, 1))])
+def test_models_survive_saving(transfer):
+    again = transfer_from_dict({"model": transfer.name, "parameters": transfer.parameters()})
     x = np.linspace(0, 1, 11)
-    assert np.allclose(again.forward(x), model.forward(x))
+    assert np.allclose(again.forward(x), transfer.forward(x))
 
 
 def test_unknown_model_lists_the_valid_ones():

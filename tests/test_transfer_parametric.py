@@ -31,10 +31,10 @@ def test_power_fit_and_inverse_round_trip():
 
 
 def test_nd_input():
-    model = GainOffsetGammaTransfer(1.1, -0.1, 2.2)
+    transfer = GainOffsetGammaTransfer(1.1, -0.1, 2.2)
     x = np.linspace(0, 1, 24).reshape(2, 3, 4)
-    assert model.forward(x).shape == (2, 3, 4)
-    assert np.allclose(model.forward(x).ravel(), model.forward(x.ravel()))
+    assert transfer.forward(x).shape == (2, 3, 4)
+    assert np.allclose(transfer.forward(x).ravel(), transfer.forward(x.ravel()))
 
 
 def test_nan_is_refused():
@@ -72,16 +72,16 @@ def test_gog_fit_places_dark_and_mid_levels_within_one_level_under_photometer_no
 
 def test_gog_inverse_takes_the_largest_input_in_the_cut_off():
     # Berns (1996) model with gain > 1: the output is 0 up to x = -offset/gain; the inverse of 0 is that x.
-    model = GainOffsetGammaTransfer(gain=1.25, offset=-0.25, gamma=2.0)
-    assert float(model.inverse(0.0)) == pytest.approx(0.2)
-    assert float(model.forward(0.1)) == 0.0
+    transfer = GainOffsetGammaTransfer(gain=1.25, offset=-0.25, gamma=2.0)
+    assert float(transfer.inverse(0.0)) == pytest.approx(0.2)
+    assert float(transfer.forward(0.1)) == 0.0
 
 
 def test_power_model_known_value_and_parameters():
     # y = x^γ: 0.5^2.2 = 0.2176376 (worked example).
-    model = PowerTransfer(2.2)
-    assert float(model.forward(0.5)) == pytest.approx(0.2176376, abs=1e-7)
-    assert model.parameters() == {"gamma": 2.2}
+    transfer = PowerTransfer(2.2)
+    assert float(transfer.forward(0.5)) == pytest.approx(0.2176376, abs=1e-7)
+    assert transfer.parameters() == {"gamma": 2.2}
 
 
 def test_power_fit_needs_a_level_between_the_ends():

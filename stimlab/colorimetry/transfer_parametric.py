@@ -179,8 +179,8 @@ class GainOffsetGammaTransfer:
 
     Examples
     --------
-    >>> model = GainOffsetGammaTransfer(gain=1.1, offset=-0.1, gamma=2.0)
-    >>> float(model.forward(1.0)), round(float(model.inverse(model.forward(0.5))), 12)
+    >>> transfer = GainOffsetGammaTransfer(gain=1.1, offset=-0.1, gamma=2.0)
+    >>> float(transfer.forward(1.0)), round(float(transfer.inverse(transfer.forward(0.5))), 12)
     (1.0, 0.5)
     """
 

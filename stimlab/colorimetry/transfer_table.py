@@ -51,8 +51,8 @@ class TableTransfer:
 
     Examples
     --------
-    >>> model = TableTransfer((0.0, 0.5, 1.0), (0.0, 0.2, 1.0))
-    >>> float(model.forward(0.5)), round(float(model.inverse(0.2)), 6)
+    >>> transfer = TableTransfer((0.0, 0.5, 1.0), (0.0, 0.2, 1.0))
+    >>> float(transfer.forward(0.5)), round(float(transfer.inverse(0.2)), 6)
     (0.2, 0.5)
     """
 
