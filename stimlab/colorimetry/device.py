@@ -96,7 +96,7 @@ def _refuse_out_of_gamut(RGB: np.ndarray) -> None:
 
 
 def channel_first_to_device(RGB: NDArray[np.float64], level_outputs: NDArray[np.float64]) -> NDArray[np.intp]:
-    """Digital levels of linear RGB laid out channel-first, shape (3, N), returned as an (N, 3) view.
+    """Device levels of linear RGB laid out channel-first, shape (3, N), returned as an (N, 3) view.
 
     The fast path for whole images: each channel is one contiguous row for ``np.searchsorted``, and the result
     is handed back transposed without a copy.
@@ -111,7 +111,7 @@ def channel_first_to_device(RGB: NDArray[np.float64], level_outputs: NDArray[np.
     Returns
     -------
     ndarray of intp, shape (N, 3)
-        Digital levels 0..2^bits − 1, a transposed view of a channel-first array.
+        Device levels 0..2^bits − 1, a transposed view of a channel-first array.
 
     Raises
     ------
@@ -126,10 +126,10 @@ def channel_first_to_device(RGB: NDArray[np.float64], level_outputs: NDArray[np.
     """
     _refuse_out_of_gamut(RGB)
     thresholds = _thresholds(level_outputs)
-    levels = np.empty(RGB.shape, dtype=np.intp)
+    device = np.empty(RGB.shape, dtype=np.intp)
     for channel in range(3):
-        levels[channel] = _nearest_levels(thresholds[channel], RGB[channel])
-    return levels.T
+        device[channel] = _nearest_levels(thresholds[channel], RGB[channel])
+    return device.T
 
 
 def _nearest_levels(thresholds: np.ndarray, values: np.ndarray) -> np.ndarray:
@@ -159,7 +159,7 @@ def _nearest_levels(thresholds: np.ndarray, values: np.ndarray) -> np.ndarray:
 
 
 def RGB_linear_to_device(RGB: ArrayLike, level_outputs: NDArray[np.float64]) -> NDArray[np.intp]:
-    """Digital levels whose output is nearest to linear RGB.
+    """Device levels whose output is nearest to linear RGB.
 
     Parameters
     ----------
@@ -172,7 +172,7 @@ def RGB_linear_to_device(RGB: ArrayLike, level_outputs: NDArray[np.float64]) -> 
     Returns
     -------
     ndarray of int, shape (..., 3)
-        Digital levels 0..2^bits − 1.
+        Device levels 0..2^bits − 1.
 
     Raises
     ------
@@ -206,7 +206,7 @@ def RGB_linear_to_device_or_none(RGB: ArrayLike,
     RGB
         Linear RGB, shape (..., 3); in-gamut values are 0..1 within :data:`GAMUT_TOLERANCE`.
     level_outputs
-        The display's modelled output of every digital level, shape (3, levels), 0..1.
+        The display's modelled output of every digital level of each channel, shape (3, 2^bits), 0..1.
 
     Returns
     -------
@@ -224,19 +224,19 @@ def RGB_linear_to_device_or_none(RGB: ArrayLike,
     """
     RGB = np.asarray(RGB, dtype=float)
     inside = is_within_gamut(RGB)
-    levels = np.zeros(RGB.shape, dtype=np.int64)
+    device = np.zeros(RGB.shape, dtype=np.int64)
     if inside.any():
-        levels[inside] = RGB_linear_to_device(np.clip(RGB[inside], 0, 1), level_outputs)
-    return [row.tolist() if ok else None for row, ok in zip(levels.reshape(-1, 3), inside.reshape(-1))], inside
+        device[inside] = RGB_linear_to_device(np.clip(RGB[inside], 0, 1), level_outputs)
+    return [row.tolist() if ok else None for row, ok in zip(device.reshape(-1, 3), inside.reshape(-1))], inside
 
 
-def device_to_RGB_linear(levels: ArrayLike, level_outputs: NDArray[np.float64]) -> NDArray[np.float64]:
-    """Linear RGB that digital levels produce.
+def device_to_RGB_linear(device: ArrayLike, level_outputs: NDArray[np.float64]) -> NDArray[np.float64]:
+    """Linear RGB that device levels produce.
 
     Parameters
     ----------
-    levels
-        Digital levels, shape (..., 3), whole numbers 0..2^bits − 1 (integers, or floats with integral values).
+    device
+        Device levels, shape (..., 3), whole numbers 0..2^bits − 1 (integers, or floats with integral values).
     level_outputs
         Normalised output of every level of every channel, 0..1, shape (3, 2^bits).
 
@@ -256,28 +256,28 @@ def device_to_RGB_linear(levels: ArrayLike, level_outputs: NDArray[np.float64]) 
     >>> np.round(device_to_RGB_linear([128, 0, 255], outputs), 6).tolist()  # 128²/255² = 0.251965
     [0.251965, 0.0, 1.0]
     """
-    levels = np.asarray(levels)
+    device = np.asarray(device)
     d_max = level_outputs.shape[1] - 1
-    if not np.issubdtype(levels.dtype, np.integer):
-        if not np.all(np.isfinite(levels)) or np.any(levels != np.round(levels)):
+    if not np.issubdtype(device.dtype, np.integer):
+        if not np.all(np.isfinite(device)) or np.any(device != np.round(device)):
             raise ValueError("digital levels must be whole numbers")
-        levels = levels.astype(np.int64)
-    if np.any(levels < 0) or np.any(levels > d_max):
+        device = device.astype(np.int64)
+    if np.any(device < 0) or np.any(device > d_max):
         raise ValueError(f"digital levels must lie in 0..{d_max}")
-    return np.stack([level_outputs[c][levels[..., c]] for c in range(3)], axis=-1)
+    return np.stack([level_outputs[c][device[..., c]] for c in range(3)], axis=-1)
 
 
-def quantisation_cone_contrast(levels: ArrayLike, level_outputs: NDArray[np.float64], M_LMS: NDArray[np.float64],
+def quantisation_cone_contrast(device: ArrayLike, level_outputs: NDArray[np.float64], M_LMS: NDArray[np.float64],
                                LMS_0: ArrayLike) -> NDArray[np.float64]:
-    """The cone-contrast grain of the display at given levels.
+    """The cone-contrast grain of the display at given device levels.
 
     For each cone class, the largest change of its contrast (against ``LMS_0``) that a one-level step of any
     single channel makes at these levels (the step up, or down at full drive).
 
     Parameters
     ----------
-    levels
-        Digital levels, shape (..., 3), whole numbers 0..2^bits − 1.
+    device
+        Device levels, shape (..., 3), whole numbers 0..2^bits − 1.
     level_outputs
         Normalised output of every level of every channel, 0..1, shape (3, 2^bits).
     M_LMS
@@ -302,12 +302,12 @@ def quantisation_cone_contrast(levels: ArrayLike, level_outputs: NDArray[np.floa
     >>> np.round(quantisation_cone_contrast([128, 128, 128], outputs, np.eye(3), [0.25, 0.25, 0.25]), 6).tolist()
     [0.015809, 0.015809, 0.015809]
     """
-    levels = np.asarray(levels, dtype=np.int64)
+    device = np.asarray(device, dtype=np.int64)
     d_max = level_outputs.shape[1] - 1
-    upper = np.minimum(levels + 1, d_max)
+    upper = np.minimum(device + 1, d_max)
     lower = upper - 1
     step = np.stack([level_outputs[c][upper[..., c]] - level_outputs[c][lower[..., c]] for c in range(3)],
                     axis=-1)
     # delta[..., cone, channel] = M_LMS[cone, channel] * step[..., channel] / LMS_0[cone]
     delta = M_LMS[None, :, :] * step.reshape(-1, 1, 3) / np.asarray(LMS_0, dtype=float)[None, :, None]
-    return np.abs(delta).max(axis=-1).reshape(levels.shape)
+    return np.abs(delta).max(axis=-1).reshape(device.shape)

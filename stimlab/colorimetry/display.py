@@ -23,130 +23,13 @@ from .observers import K_M, Observer
 from .observers import observer as standard_observer
 from .rods import RodResponse, rod_response
 from .spaces import as_triplets
+from .spectral import integration_grid, smooth_on_grid
 from .transfer import transfer_from_dict
 
-__all__ = ["CHANNELS", "DisplayModel", "XYZ_to_LMS_matrix", "resample", "smooth_on_grid", "integration_grid"]
+__all__ = ["CHANNELS", "DisplayModel", "XYZ_to_LMS_matrix"]
 
 CHANNELS = ("red", "green", "blue")
 """The display's channels, in the order of every RGB triplet."""
-
-
-def smooth_on_grid(table_wavelengths: ArrayLike, table_values: ArrayLike, grid: ArrayLike) -> NDArray[np.float64]:
-    """A smooth tabulated function (cone fundamental, luminous efficiency, CMF) on ``grid``, zero outside its table.
-
-    Grid points that are table nodes take the tabulated value exactly; other points are interpolated with Sprague's
-    fifth-order interpolation (the CIE's recommendation for interpolating 5 nm colorimetric tables, CIE 167:2005,
-    from memory), which suits these smooth functions and would not suit measured emission lines. Its ringing in
-    the near-zero tails (about 1e-5 of the peak) is kept: clipping it would bias the tails' integrals.
-
-    Parameters
-    ----------
-    table_wavelengths
-        Evenly spaced wavelengths of the table, nm, shape (N,).
-    table_values
-        Values, shape (N,) or (N, K).
-    grid
-        Wavelengths wanted, nm, shape (G,).
-
-    Returns
-    -------
-    ndarray of float64
-        Shape (G,) or (G, K), in the units of ``table_values``; 0 outside the table's range.
-
-    References
-    ----------
-    Sprague, T. B. (1880). J. Inst. Actuaries, 22, 270–285; CIE 167:2005 (both from memory).
-
-    Examples
-    --------
-    >>> smooth_on_grid([400, 405, 410, 415, 420, 425], [0, 1, 4, 9, 16, 25], [395, 405, 420]).tolist()
-    [0.0, 1.0, 16.0]
-    """
-    table_wavelengths = np.asarray(table_wavelengths, dtype=float)
-    values = np.asarray(table_values, dtype=float)
-    columns = values if values.ndim == 2 else values[:, None]
-    grid = np.asarray(grid, dtype=float)
-    out = np.zeros((grid.size, columns.shape[1]))
-    inside = (grid >= table_wavelengths[0] - 1e-9) & (grid <= table_wavelengths[-1] + 1e-9)
-    step = table_wavelengths[1] - table_wavelengths[0]
-    position = (grid[inside] - table_wavelengths[0]) / step
-    nodes = np.round(position)
-    if np.allclose(position, nodes, atol=1e-6):
-        out[inside] = columns[nodes.astype(int)]
-    else:
-        for k in range(columns.shape[1]):
-            interpolator = colour.algebra.SpragueInterpolator(table_wavelengths, columns[:, k])
-            out[inside, k] = interpolator(np.clip(grid[inside], table_wavelengths[0], table_wavelengths[-1]))
-    return out if values.ndim == 2 else out[:, 0]
-
-
-def integration_grid(measured_wavelengths: ArrayLike, table_wavelengths: ArrayLike) -> tuple[NDArray[np.float64], float]:
-    """The wavelength grid a measured spectrum is integrated on: the measurement's own samples.
-
-    Parameters
-    ----------
-    measured_wavelengths
-        Evenly spaced wavelengths of the measurement, nm.
-    table_wavelengths
-        Wavelengths of the observer's table, nm (its range bounds the grid).
-
-    Returns
-    -------
-    grid : ndarray of float64
-        The measured wavelengths inside the table's range, nm.
-    step : float
-        Grid spacing, nm: the integral is ``step · Σ spectrum · function`` over the grid.
-
-    Notes
-    -----
-    The measured samples are never interpolated; the smooth tabulated functions are brought to them
-    (:func:`smooth_on_grid`). A 1 nm measurement against the 5 nm Smith & Pokorny table keeps all its samples
-    (decimating it would drop 4 of every 5 and with them narrow emission lines); a 5 nm measurement against a 1 nm
-    table is summed at its own 5 nm, where the table has nodes. For a smooth spectrum the two agree to about 1e-6
-    (``tests/test_display.py``); resampling a 5 nm measurement linearly onto 1 nm instead misses by up to 1 %
-    in the spectral tails.
-
-    Examples
-    --------
-    >>> grid, step = integration_grid(np.arange(380.0, 801.0, 5.0), np.arange(390.0, 831.0, 1.0))
-    >>> float(grid[0]), float(grid[-1]), step
-    (390.0, 800.0, 5.0)
-    """
-    measured = np.asarray(measured_wavelengths, dtype=float)
-    table = np.asarray(table_wavelengths, dtype=float)
-    keep = (measured >= table[0] - 1e-9) & (measured <= table[-1] + 1e-9)
-    return measured[keep], float(measured[1] - measured[0])
-
-
-def resample(wavelengths: ArrayLike, values: ArrayLike, grid: ArrayLike) -> NDArray[np.float64]:
-    """Linear interpolation of spectra onto ``grid``, zero outside the measured range.
-
-    Linear rather than Sprague interpolation: measured spectra are noisy, and a higher-order interpolant would
-    ring and go negative around narrow emission lines.
-
-    Parameters
-    ----------
-    wavelengths
-        Increasing wavelengths of the spectra, nm, shape (N,).
-    values
-        Spectra, shape (N,) or (N, K) (radiance in W·sr⁻¹·m⁻²·nm⁻¹, say).
-    grid
-        Wavelengths wanted, nm, shape (G,).
-
-    Returns
-    -------
-    ndarray of float64
-        Shape (G,) or (G, K), in the units of ``values``.
-
-    Examples
-    --------
-    >>> resample([400, 410, 420], [0.0, 1.0, 2.0], [405, 415, 425]).tolist()
-    [0.5, 1.5, 0.0]
-    """
-    values = np.asarray(values, dtype=float)
-    columns = values if values.ndim == 2 else values[:, None]
-    out = np.stack([np.interp(grid, wavelengths, c, left=0.0, right=0.0) for c in columns.T], axis=-1)
-    return out if values.ndim == 2 else out[:, 0]
 
 
 def _cmfs_1931(grid) -> np.ndarray:
@@ -250,8 +133,9 @@ class DisplayModel:
     def integrate(self, table_wavelengths: ArrayLike, table_values: ArrayLike) -> NDArray[np.float64]:
         """``Σ spectrum · function · Δλ`` for each measured spectrum against a tabulated spectral function.
 
-        Summed on the measurement's own grid within the table's range (:func:`integration_grid`), the table
-        brought to it by :func:`smooth_on_grid`.
+        Summed on the measurement's own grid within the table's range
+        (:func:`stimlab.colorimetry.spectral.integration_grid`), the table brought to it by
+        :func:`stimlab.colorimetry.spectral.smooth_on_grid`.
 
         Parameters
         ----------
@@ -278,9 +162,15 @@ class DisplayModel:
 
     @cached_property
     def rods(self) -> RodResponse | None:
-        """Rod excitation (scotopic cd/m²) of the primaries and black; ``None`` for a profile given as xyY.
+        """Rod excitation of the primaries and black, computed once per model.
 
-        See :func:`stimlab.colorimetry.rods.rod_response` (CIE 1951 scotopic V′(λ)).
+        Returns
+        -------
+        RodResponse or None
+            Rod excitation in scotopic cd/m² (``K′m · ∫ spectrum · V′(λ) dλ``, CIE 1951 scotopic V′(λ) from
+            colour-science's datasets) of each primary at full drive above black and of black; ``None`` for a
+            profile given as xyY, which has no spectra to integrate (see
+            :func:`stimlab.colorimetry.rods.rod_response`).
         """
         return rod_response(self)
 
@@ -306,36 +196,100 @@ class DisplayModel:
         return as_triplets(RGB, "RGB") @ self.M_LMS.T + self.LMS_black
 
     def LMS_to_RGB_linear(self, LMS: ArrayLike) -> NDArray[np.float64]:
-        """Linear RGB that produces the cone excitations ``LMS``, shape (..., 3) → (..., 3).
+        """Linear RGB that produces the cone excitations ``LMS``, ``M_LMS⁻¹ · (LMS − LMS_black)``.
 
-        The result may lie outside 0..1 (out of gamut); nothing is clipped.
+        Parameters
+        ----------
+        LMS
+            Cone excitations, shape (..., 3), scaled so that ``w_L·L + w_M·M`` is luminance in cd/m²; any finite
+            values.
+
+        Returns
+        -------
+        ndarray of float64, shape (..., 3)
+            Linear RGB, fraction of each primary's full drive above black: 0..1 in gamut, and possibly outside
+            0..1 (out of gamut); nothing is clipped.
+
+        Raises
+        ------
+        ValueError
+            If the shape is not (..., 3) or a value is NaN or infinite.
         """
         return (as_triplets(LMS, "LMS") - self.LMS_black) @ self.M_LMS_inverse.T
 
     def RGB_linear_to_XYZ(self, RGB: ArrayLike) -> NDArray[np.float64]:
-        """CIE 1931 XYZ of linear RGB (shape (..., 3), 0..1 in gamut), Y in cd/m², shape (..., 3)."""
+        """CIE 1931 XYZ of linear RGB, ``XYZ_black + M_XYZ · rgb``.
+
+        Parameters
+        ----------
+        RGB
+            Linear RGB, shape (..., 3), 0..1 in gamut (values outside are extrapolated linearly).
+
+        Returns
+        -------
+        ndarray of float64, shape (..., 3)
+            CIE 1931 2° XYZ (CIE 015:2018, from memory), Y in cd/m² (≥ 0 in gamut).
+
+        Raises
+        ------
+        ValueError
+            If the shape is not (..., 3) or a value is NaN or infinite.
+        """
         return as_triplets(RGB, "RGB") @ self.M_XYZ.T + self.XYZ_black
 
     def RGB_linear_to_luminance(self, RGB: ArrayLike) -> NDArray[np.float64]:
-        """Luminance of linear RGB (shape (..., 3)) under the observer's V(λ), ``w_L·L + w_M·M``, cd/m², shape (...).
+        """Luminance of linear RGB under the observer's V(λ), ``w_L·L + w_M·M``.
 
         For the Stockman & Sharpe observers this is the CIE 2008 V(λ) (CIE 170-2:2015), so it differs slightly
         from the CIE 1931 Y of :meth:`RGB_linear_to_XYZ`.
+
+        Parameters
+        ----------
+        RGB
+            Linear RGB, shape (..., 3), 0..1 in gamut (values outside are extrapolated linearly).
+
+        Returns
+        -------
+        ndarray of float64, shape (...)
+            Luminance, cd/m² (≥ 0 in gamut).
+
+        Raises
+        ------
+        ValueError
+            If the shape is not (..., 3) or a value is NaN or infinite.
         """
         LMS = self.RGB_linear_to_LMS(RGB)
         return self.observer.w_L * LMS[..., 0] + self.observer.w_M * LMS[..., 1]
 
     @property
     def white_luminance(self) -> float:
-        """Luminance of full drive on all channels, cd/m²."""
+        """Luminance of full drive on all channels (linear RGB (1, 1, 1)), under the observer's V(λ).
+
+        Returns
+        -------
+        float
+            Luminance, cd/m², > 0 for a usable display.
+        """
         return float(self.RGB_linear_to_luminance(np.ones(3)))
 
     @property
     def black_luminance(self) -> float:
-        """Luminance of all-zero drive, cd/m²."""
+        """Luminance of all-zero drive (linear RGB (0, 0, 0)): the display's black, under the observer's V(λ).
+
+        Returns
+        -------
+        float
+            Luminance, cd/m², ≥ 0.
+        """
         return float(self.RGB_linear_to_luminance(np.zeros(3)))
 
     def primaries_xy(self) -> NDArray[np.float64]:
-        """CIE 1931 xy chromaticity of each primary above black, shape (3, 2), rows red, green, blue, each 0..1."""
+        """CIE 1931 xy chromaticity of each primary at full drive above black.
+
+        Returns
+        -------
+        ndarray of float64, shape (3, 2)
+            Rows red, green, blue; columns x, y, each 0..1 (CIE 015:2018, from memory).
+        """
         return np.array([colour.XYZ_to_xy(self.M_XYZ[:, i]) for i in range(3)])
 

@@ -7,8 +7,13 @@ For a background ``RGB_0`` inside the cube and a direction ``ΔRGB``, the larges
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
+
+if TYPE_CHECKING:  # for annotations only: the limits need nothing of the display but its matrix
+    from .display import DisplayModel
 
 __all__ = ["scale_limit", "max_scale_in_gamut", "DKL_axis_limits", "plane_gamut_polygon"]
 
@@ -54,7 +59,7 @@ def scale_limit(RGB_0: ArrayLike, delta_RGB: ArrayLike) -> tuple[NDArray[np.floa
     return scale, np.where(np.isinf(scale), -1, channel)
 
 
-def max_scale_in_gamut(model, RGB_0: ArrayLike, delta_LMS: ArrayLike) -> NDArray[np.float64]:
+def max_scale_in_gamut(model: DisplayModel, RGB_0: ArrayLike, delta_LMS: ArrayLike) -> NDArray[np.float64]:
     """Largest scale of a cone-excitation change ``delta_LMS`` from background ``RGB_0`` on ``model``'s display.
 
     Parameters
@@ -81,7 +86,7 @@ def max_scale_in_gamut(model, RGB_0: ArrayLike, delta_LMS: ArrayLike) -> NDArray
     return scale_limit(RGB_0, delta_RGB)[0]
 
 
-def DKL_axis_limits(model, RGB_0: ArrayLike, D: ArrayLike) -> NDArray[np.float64]:
+def DKL_axis_limits(model: DisplayModel, RGB_0: ArrayLike, D: ArrayLike) -> NDArray[np.float64]:
     """Gamut limits along each DKL axis, in units of ``D``'s columns.
 
     Parameters

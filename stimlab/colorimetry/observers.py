@@ -73,7 +73,13 @@ class Observer:
 
     @property
     def interval(self) -> float:
-        """Wavelength spacing of the grid, nm (1 for the Stockman & Sharpe tables, 5 for Smith & Pokorny).
+        """Wavelength spacing of the observer's grid.
+
+        Returns
+        -------
+        float
+            Spacing, nm, > 0: 1 for the Stockman & Sharpe tables (CIE 170-2:2015 through colour-science's
+            datasets), 5 for Smith & Pokorny.
 
         Examples
         --------
@@ -84,10 +90,15 @@ class Observer:
 
     @property
     def luminous_efficiency(self) -> NDArray[np.float64]:
-        """Luminous efficiency ``V(λ) = w_L·l̄ + w_M·m̄`` on the observer's grid, shape (N,), 0..1 (about).
+        """Luminous efficiency ``V(λ) = w_L·l̄ + w_M·m̄`` on the observer's grid.
 
         For ``ss2`` and ``ss10`` this is the CIE 2008 2° or 10° physiologically relevant luminous efficiency
         function (CIE 170-2:2015); for ``sp`` a least-squares fit to the Judd–Vos V(λ).
+
+        Returns
+        -------
+        ndarray of float64, shape (N,)
+            Dimensionless, 0..1 (about: the weighted sum peaks near 1 at 555 nm), at :attr:`wavelengths`.
 
         Examples
         --------

@@ -18,6 +18,7 @@ References
 from __future__ import annotations
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
 from .observers import Observer
 from .spaces import matrix_DKL_directions
@@ -32,19 +33,59 @@ L/M ratios have a standard deviation of at most 0.40. A default chosen for this 
 starts are common practice, and a lab should set its own limits."""
 
 
-def _directions(LMS_0, obs: Observer) -> np.ndarray:
+def _directions(LMS_0: ArrayLike, obs: Observer) -> NDArray[np.float64]:
     return matrix_DKL_directions(LMS_0, obs.w_L, obs.w_M)
 
 
-def hfp_delta_LMS(amplitude: float, setting, LMS_0, obs: Observer) -> np.ndarray:
-    """ΔLMS of the flickering patch: ``amplitude`` along L−M plus ``setting`` along luminance (DKL units)."""
+def hfp_delta_LMS(amplitude: float, setting: ArrayLike, LMS_0: ArrayLike, obs: Observer) -> NDArray[np.float64]:
+    """ΔLMS of the flickering patch: ``amplitude`` along L−M plus ``setting`` along luminance.
+
+    Parameters
+    ----------
+    amplitude
+        Contrast along the standard observer's DKL L−M direction, pooled cone contrast (Brainard 1996), any
+        finite value (a few hundredths in practice).
+    setting
+        The observer's setting along the DKL luminance direction, pooled cone contrast, any shape.
+    LMS_0
+        Background cone excitations, shape (3,), > 0, scaled so that ``w_L·L + w_M·M`` is cd/m².
+    obs
+        The standard observer whose DKL directions write the stimulus.
+
+    Returns
+    -------
+    ndarray of float64, shape ``setting.shape + (3,)``
+        ΔL, ΔM, ΔS of the ``+Δ`` state from the background, in cone-excitation units.
+
+    References
+    ----------
+    Brainard, D. H. (1996). Cone contrast and opponent modulation color spaces. In Kaiser & Boynton, Human Color
+    Vision, 2nd ed. (the DKL directions).
+    """
     D = _directions(LMS_0, obs)
     setting = np.asarray(setting, dtype=float)
     return amplitude * D[:, 1] + setting[..., None] * D[:, 0]
 
 
-def null_setting(amplitude: float, ratio: float, LMS_0, obs: Observer) -> float:
+def null_setting(amplitude: float, ratio: float, LMS_0: ArrayLike, obs: Observer) -> float:
     """Where an observer with L/M gain ratio ``ratio`` sees least flicker (the forward model, for simulation).
+
+    Parameters
+    ----------
+    amplitude
+        Contrast along the DKL L−M direction, pooled cone contrast, non-zero.
+    ratio
+        The observer's L/M gain ratio ρ = g_L/g_M, > 0 (1 for the standard observer).
+    LMS_0
+        Background cone excitations, shape (3,), > 0.
+    obs
+        The standard observer.
+
+    Returns
+    -------
+    float
+        The setting along the DKL luminance direction, pooled cone contrast, where ``w_L'·ΔL + w_M'·ΔM = 0``
+        (0 for ρ = 1; the sign opposes ``amplitude`` for ρ > 1).
 
     Examples
     --------
@@ -57,8 +98,30 @@ def null_setting(amplitude: float, ratio: float, LMS_0, obs: Observer) -> float:
     return float(-amplitude * (weights @ D[:, 1]) / (weights @ D[:, 0]))
 
 
-def ratio_from_setting(amplitude: float, setting, LMS_0, obs: Observer) -> np.ndarray:
-    """L/M gain ratio ρ from flicker-null settings (the inverse of :func:`null_setting`)."""
+def ratio_from_setting(amplitude: float, setting: ArrayLike, LMS_0: ArrayLike, obs: Observer) -> NDArray[np.float64]:
+    """L/M gain ratio ρ from flicker-null settings (the inverse of :func:`null_setting`).
+
+    Parameters
+    ----------
+    amplitude
+        Contrast along the DKL L−M direction, pooled cone contrast, non-zero.
+    setting
+        Settings along the DKL luminance direction, pooled cone contrast, any shape.
+    LMS_0
+        Background cone excitations, shape (3,), > 0.
+    obs
+        The standard observer.
+
+    Returns
+    -------
+    ndarray of float64, shape of ``setting``
+        ρ = g_L/g_M = −w_M·ΔM / (w_L·ΔL), dimensionless, > 0.
+
+    Raises
+    ------
+    ValueError
+        If a setting implies no positive, finite ratio (beyond any observer's flicker null).
+    """
     delta = hfp_delta_LMS(amplitude, setting, LMS_0, obs)
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = -obs.w_M * delta[..., 1] / (obs.w_L * delta[..., 0])
@@ -67,16 +130,57 @@ def ratio_from_setting(amplitude: float, setting, LMS_0, obs: Observer) -> np.nd
     return ratio
 
 
-def adjusted_weights(ratio: float, LMS_0, obs: Observer) -> tuple[float, float]:
-    """Weights ``(w_L', w_M')`` with L/M gain ratio ``ratio`` that leave the background's luminance unchanged."""
+def adjusted_weights(ratio: float, LMS_0: ArrayLike, obs: Observer) -> tuple[float, float]:
+    """Weights ``(w_L', w_M')`` with L/M gain ratio ``ratio`` that leave the background's luminance unchanged.
+
+    Parameters
+    ----------
+    ratio
+        L/M gain ratio ρ = g_L/g_M, > 0.
+    LMS_0
+        Background cone excitations, shape (3,), > 0.
+    obs
+        The standard observer whose weights ``w_L, w_M`` are scaled.
+
+    Returns
+    -------
+    w_L, w_M : float
+        Individual luminance weights, > 0, with ``w_L'/w_M' = ρ·w_L/w_M`` and
+        ``w_L'·L_0 + w_M'·M_0 = w_L·L_0 + w_M·M_0`` (the background's luminance in cd/m²).
+    """
     L_0, M_0 = float(LMS_0[0]), float(LMS_0[1])
     standard = obs.w_L * L_0 + obs.w_M * M_0
     g_M = standard / (ratio * obs.w_L * L_0 + obs.w_M * M_0)
     return ratio * g_M * obs.w_L, g_M * obs.w_M
 
 
-def summarise_settings(amplitude: float, settings, LMS_0, obs: Observer) -> dict:
-    """Mean setting, its spread, and the L/M ratio and weights it implies."""
+def summarise_settings(amplitude: float, settings: ArrayLike, LMS_0: ArrayLike, obs: Observer) -> dict:
+    """Mean setting, its spread, and the L/M ratio and weights it implies.
+
+    Parameters
+    ----------
+    amplitude
+        Contrast along the DKL L−M direction, pooled cone contrast, non-zero.
+    settings
+        One observer's settings along the DKL luminance direction, pooled cone contrast, at least two.
+    LMS_0
+        Background cone excitations, shape (3,), > 0.
+    obs
+        The standard observer.
+
+    Returns
+    -------
+    dict
+        ``settings``, ``mean_setting``, ``sd_setting`` and ``sem_setting`` (pooled cone contrast; sample SD),
+        ``ratio`` (ρ of the mean setting, > 0), ``ratio_sd`` (SD of the settings' ratios, ``None`` when a setting
+        implies no positive ratio), ``invalid_settings`` (how many), ``w_L``, ``w_M`` (:func:`adjusted_weights`),
+        ``amplitude`` and ``n``.
+
+    Raises
+    ------
+    ValueError
+        With fewer than two settings, or a mean setting that implies no positive ratio.
+    """
     settings = np.asarray(settings, dtype=float)
     if settings.size < 2:
         raise ValueError("flicker photometry needs at least two settings to say how consistent they are")
@@ -96,8 +200,21 @@ def summarise_settings(amplitude: float, settings, LMS_0, obs: Observer) -> dict
             "n": int(settings.size)}
 
 
-def reliability_criterion(min_settings=None, max_ratio_sd=None) -> dict:
-    """A lab's criterion (either value may be None for the default), checked; ``is_default`` says which it is.
+def reliability_criterion(min_settings: int | None = None, max_ratio_sd: float | None = None) -> dict:
+    """A lab's reliability criterion for flicker-photometry settings, checked.
+
+    Parameters
+    ----------
+    min_settings
+        Fewest settings, a whole number ≥ 2; ``None`` for the default (4, :data:`DEFAULT_CRITERION`).
+    max_ratio_sd
+        Largest standard deviation of the settings' L/M ratios, dimensionless, > 0; ``None`` for the default
+        (0.40). Both defaults are this software's choice, not a published standard.
+
+    Returns
+    -------
+    dict
+        ``min_settings`` (int), ``max_ratio_sd`` (float) and ``is_default`` (bool: both equal the defaults).
 
     Raises
     ------

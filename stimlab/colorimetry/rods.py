@@ -19,6 +19,7 @@ References
 from __future__ import annotations
 
 import dataclasses
+from typing import Protocol
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -185,7 +186,15 @@ class RodResponse:
         return (as_triplets(delta_RGB, "ΔRGB") @ self.m_rod) / float(self.scotopic_luminance(RGB_0))
 
 
-def rod_response(model) -> RodResponse | None:
+class _SpectralDisplay(Protocol):
+    """What :func:`rod_response` needs of a display model (display.py imports this module, so not the class)."""
+
+    spectra: tuple[NDArray[np.float64], NDArray[np.float64]] | None
+
+    def integrate(self, table_wavelengths: ArrayLike, table_values: ArrayLike) -> NDArray[np.float64]: ...
+
+
+def rod_response(model: _SpectralDisplay) -> RodResponse | None:
     """The rod excitation of a display model's primaries and black, or ``None`` for a profile given as xyY.
 
     Parameters

@@ -19,6 +19,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 __all__ = [
+    "DKL_AXES",
     "as_triplets",
     "LMS_to_cone_contrast",
     "cone_contrast_to_LMS",
@@ -29,6 +30,9 @@ __all__ = [
     "LMS_to_MacLeod_Boynton",
     "MacLeod_Boynton_to_LMS",
 ]
+
+DKL_AXES = ("lum", "L-M", "S")
+"""Names of the DKL axes, in coordinate order (Brainard 1996's luminance, L−M and S directions)."""
 
 
 def as_triplets(values: ArrayLike, name: str) -> NDArray[np.float64]:
