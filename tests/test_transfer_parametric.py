@@ -16,18 +16,18 @@ def test_gog_fit_recovers_known_parameters_from_noisy_data():
     y = truth.forward(x) * (1 + 0.002 * rng.standard_normal(x.size))
     y[0], y[-1] = 0.0, 1.0
     fit = fit_transfer(x, y, "gog")
-    assert fit.model.gain == pytest.approx(1.08, abs=0.01)
-    assert fit.model.gamma == pytest.approx(2.35, abs=0.03)
-    assert fit.model.offset == pytest.approx(1 - fit.model.gain)
+    assert fit.transfer.gain == pytest.approx(1.08, abs=0.01)
+    assert fit.transfer.gamma == pytest.approx(2.35, abs=0.03)
+    assert fit.transfer.offset == pytest.approx(1 - fit.transfer.gain)
     assert fit.rms < 0.003
 
 
 def test_power_fit_and_inverse_round_trip():
     x = np.linspace(0, 1, 17)
     fit = fit_transfer(x, x**2.2, "power")
-    assert fit.model.gamma == pytest.approx(2.2, abs=1e-6)
+    assert fit.transfer.gamma == pytest.approx(2.2, abs=1e-6)
     y = np.linspace(0, 1, 101)
-    assert np.allclose(fit.model.forward(fit.model.inverse(y)), y)
+    assert np.allclose(fit.transfer.forward(fit.transfer.inverse(y)), y)
 
 
 def test_nd_input():
@@ -62,7 +62,7 @@ def test_gog_fit_places_dark_and_mid_levels_within_one_level_under_photometer_no
         rng = np.random.default_rng(seed)
         luminance = clean * (1 + 0.003 * rng.standard_normal(x.size)) + 0.002 * rng.standard_normal(x.size)
         span = luminance[-1] - luminance[0]
-        fitted = fit_transfer(x, (luminance - luminance[0]) / span, "gog", reading_sigma(luminance) / span).model
+        fitted = fit_transfer(x, (luminance - luminance[0]) / span, "gog", reading_sigma(luminance) / span).transfer
         chosen = np.argmin(np.abs(fitted.forward(all_x)[None, :] - wanted[:, None]), axis=1)
         errors.append(np.abs(chosen - targets))
     errors = np.array(errors)

@@ -12,7 +12,7 @@ def test_table_model_represents_srgb_curve_from_18_levels_within_half_a_level():
     # (levels 255·(i/17)^1.5); the monotone table must invert every level's output to within 0.5 digital level.
     levels = np.unique(np.round(255 * np.linspace(0, 1, 18) ** 1.5))
     assert levels.size == 18
-    transfer = fit_transfer(levels / 255, sRGB_decode(levels), "table").model
+    transfer = fit_transfer(levels / 255, sRGB_decode(levels), "table").transfer
     all_levels = np.arange(256)
     recovered = transfer.inverse(sRGB_decode(all_levels)) * 255
     assert np.max(np.abs(recovered - all_levels)) <= 0.5

@@ -45,24 +45,24 @@ TRANSFER_MODELS = {
 
 @dataclasses.dataclass(frozen=True)
 class TransferFit:
-    """A fitted model with its residuals against the normalised measurements.
+    """A fitted transfer model with its residuals against the normalised measurements.
 
     Attributes
     ----------
-    model
-        The fitted model (a value of :data:`TRANSFER_MODELS`).
+    transfer
+        The fitted transfer model (an instance of a value of :data:`TRANSFER_MODELS`).
     rms
         Root-mean-square residual in normalised output (fraction of full drive), ≥ 0.
     max_abs
         Largest absolute residual in normalised output, ≥ 0.
     """
 
-    model: PowerTransfer | GainOffsetGammaTransfer | TableTransfer
+    transfer: PowerTransfer | GainOffsetGammaTransfer | TableTransfer
     rms: float
     max_abs: float
 
 
-def fit_transfer(x: ArrayLike, y: ArrayLike, model: str = "gog", sigma: ArrayLike | None = None) -> TransferFit:
+def fit_transfer(x: ArrayLike, y: ArrayLike, transfer_model: str = "gog", sigma: ArrayLike | None = None) -> TransferFit:
     """Fit one transfer model to normalised measurements.
 
     Parameters
@@ -71,7 +71,7 @@ def fit_transfer(x: ArrayLike, y: ArrayLike, model: str = "gog", sigma: ArrayLik
         Normalised digital input ``d / d_max``, increasing, 0..1, including 0 and 1, shape (N,).
     y
         Normalised output, fraction of full-drive radiance above black, shape (N,).
-    model
+    transfer_model
         A key of :data:`TRANSFER_MODELS`.
     sigma
         Standard error of each ``y`` in the same normalised units (see :func:`reading_sigma`); it weights the
@@ -80,7 +80,7 @@ def fit_transfer(x: ArrayLike, y: ArrayLike, model: str = "gog", sigma: ArrayLik
     Returns
     -------
     TransferFit
-        The model with its RMS and largest residual in normalised output (fraction of full drive).
+        The transfer model with its RMS and largest residual in normalised output (fraction of full drive).
 
     Raises
     ------
@@ -91,14 +91,14 @@ def fit_transfer(x: ArrayLike, y: ArrayLike, model: str = "gog", sigma: ArrayLik
     --------
     >>> x = np.linspace(0.0, 1.0, 9)
     >>> fit = fit_transfer(x, x**2.2, "power")
-    >>> round(fit.model.gamma, 6), fit.rms < 1e-9
+    >>> round(fit.transfer.gamma, 6), fit.rms < 1e-9
     (2.2, True)
     """
-    if model not in TRANSFER_MODELS:
-        raise ValueError(f"unknown transfer model {model!r}; choose one of: {', '.join(TRANSFER_MODELS)}")
+    if transfer_model not in TRANSFER_MODELS:
+        raise ValueError(f"unknown transfer model {transfer_model!r}; choose one of: {', '.join(TRANSFER_MODELS)}")
     x = as_finite(x, "x")
     y = as_finite(y, "y")
-    fitted = TRANSFER_MODELS[model].fit(x, y, sigma)
+    fitted = TRANSFER_MODELS[transfer_model].fit(x, y, sigma)
     residual = fitted.forward(x) - y
     return TransferFit(fitted, float(np.sqrt(np.mean(residual**2))), float(np.max(np.abs(residual))))
 

@@ -118,7 +118,7 @@ def cross_validated_rms(x: ArrayLike, y: ArrayLike, transfer_model: str, sigma: 
     for i in range(1, x.size - 1):
         keep = np.arange(x.size) != i
         try:
-            fitted = fit_transfer(x[keep], y[keep], transfer_model, None if sigma is None else sigma[keep]).model
+            fitted = fit_transfer(x[keep], y[keep], transfer_model, None if sigma is None else sigma[keep]).transfer
         except ValueError:
             return float("inf")
         errors.append(float(fitted.forward(x[i])) - y[i])

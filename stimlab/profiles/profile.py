@@ -117,7 +117,7 @@ def transfer_entry(levels, luminance, bits: int, transfer_model: str = "gog") ->
             if name == transfer_model:
                 raise InputError(str(error), field="transfer") from None
             continue
-        fits[name] = {"parameters": fit.model.parameters(), "rms": fit.rms, "max_abs": fit.max_abs}
+        fits[name] = {"parameters": fit.transfer.parameters(), "rms": fit.rms, "max_abs": fit.max_abs}
     chosen = fits.pop(transfer_model)
     entry = {
         "model": transfer_model,
