@@ -167,12 +167,15 @@ def date(text: str) -> str:
 date.__name__ = "date"
 
 
-def text(what: str):
-    """An argparse type for non-blank text (``what`` says what it names)."""
+def text(what: str, limit: int = 200, blank: bool = False):
+    """An argparse type for text of at most ``limit`` characters (not blank, unless ``blank``)."""
 
     def parse(value: str):
-        if not value.strip():
+        if not value.strip() and not blank:
             raise argparse.ArgumentTypeError(f"give {what} (it cannot be blank)")
+        if len(value.strip()) > limit:
+            raise argparse.ArgumentTypeError(f"{_shown(value)} is {len(value.strip())} characters long; give {what} "
+                                             f"in at most {limit}")
         return value.strip()
 
     parse.__name__ = "text"

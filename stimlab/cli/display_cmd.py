@@ -62,7 +62,8 @@ def register(sub, numbers) -> None:
     build.add_argument("--name", type=text("the display's name"), metavar="NAME",
                        help="the display's name, at most 200 characters (default: the output file's name "
                             "without .json)")
-    build.add_argument("--measured-by", default="", metavar="WHO", help="who measured the display (default none)")
+    build.add_argument("--measured-by", default="", metavar="WHO", type=text("who measured", blank=True),
+                       help="who measured the display, at most 200 characters (default none)")
     build.add_argument("--measured-on", metavar="YYYY-MM-DD", type=date,
                        help="date of the measurements (default today)")
     build.add_argument("-o", "--output", required=True, metavar="PROFILE.json",
