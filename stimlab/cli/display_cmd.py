@@ -109,7 +109,7 @@ def run_build(args) -> int:
     try:
         measurements = parse_transfer(transfer_text, args.bits, name=args.transfer, model=args.model)
     except InputError as error:
-        if error.field != "level":
+        if error.field != "level" or f"at {args.bits} bits" not in error.message:
             raise
         raise InputError(f"{error.message} (--bits {args.bits}); if the display has more bits per channel, give "
                          "--bits to match", file=error.file, row=error.row, field=error.field) from None
@@ -124,6 +124,9 @@ def run_build(args) -> int:
                                 spectra=spectra, chromaticities=chromaticities, size_cm=args.size_cm,
                                 size_px=args.size_px, measured_by=args.measured_by, measured_on=args.measured_on)
     except InputError as error:
+        if spectra is not None and (error.field or "").startswith("primaries."):
+            raise InputError(f"{error.message.split(';')[0]}; check the file's units (spectral radiance in "
+                             "W/sr/m²/nm)", field="spectra") from None
         if error.field not in (*CHANNELS, "black") or chromaticities is None:
             raise
         raise InputError(f"{error.message}: x and y must be above 0 with x + y below 1, and Y (cd/m²) above 0 "

@@ -32,6 +32,11 @@ def paths(tmp_path_factory):
     save_profile(profile, root / "display.json")
     save_profile(build_profile("No size", transfer=profile["transfer"], bits=profile["bits"], chromaticities={
         "red": (0.64, 0.33, 20), "green": (0.3, 0.6, 60), "blue": (0.15, 0.06, 5)}), root / "nosize.json")
+    rows = demo_file("vale_street_b12_spectra.csv").splitlines()
+    for name, value in (("huge_spectra.csv", "1e300"), ("nan_spectra.csv", "nan")):
+        (root / name).write_text("\n".join(rows[:5] + [rows[5].split(",", 1)[0] + f",{value},"
+                                                         + rows[5].split(",", 2)[2]] + rows[6:]) + "\n")
+    (root / "short_transfer.csv").write_text("\n".join(demo_file("vale_street_b12_transfer.csv").splitlines()[:2]))
     Store(root / "data").connect().close()
     (root / "folder").mkdir()
     (root / "empty.csv").write_text("")
@@ -39,7 +44,8 @@ def paths(tmp_path_factory):
     (root / "bad.csv").write_text("a,b\n1,2\n")
     names = {"spectra": "spectra.csv", "transfer": "transfer.csv", "display": "display.json", "nosize": "nosize.json",
              "data": "data", "folder": "folder", "empty": "empty.csv", "bad_json": "bad.json", "bad_csv": "bad.csv",
-             "missing": "missing", "out": "out.json"}
+             "missing": "missing", "out": "out.json", "huge_spectra": "huge_spectra.csv",
+             "nan_spectra": "nan_spectra.csv", "short_transfer": "short_transfer.csv"}
     return {key: str(root / name) for key, name in names.items()} | {"root": str(root)}
 
 
@@ -87,7 +93,10 @@ CASES = [
     (BUILD + ["--spectra", "{missing}/s.csv"], "--spectra", "file not found"),
     (BUILD + ["--spectra", "{empty}"], "--spectra", "is empty"),
     (BUILD + ["--spectra", "{bad_csv}"], "--spectra", "row 1"),
+    (BUILD + ["--spectra", "{huge_spectra}"], "--spectra", "W/sr/m²/nm"),
+    (BUILD + ["--spectra", "{nan_spectra}"], "--spectra", "row 6, column 'red'"),
     (BUILD + ["--transfer", "{folder}"], "--transfer", "is a folder"),
+    (BUILD + ["--transfer", "{short_transfer}"], "--transfer", "full drive"),
     (BUILD + ["--transfer", "{bad_csv}"], "--transfer", "channel,level,luminance_cd_m2"),
     (BUILD + ["--black", "{missing}/b.csv"], "--black", "file not found"),
     (BUILD + ["--black-xyY", "0.3,0.3,1"], "--black-xyY", "--primaries-xyY"),
