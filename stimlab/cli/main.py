@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import os
 import sys
+from pathlib import Path
 
 from ..errors import InputError
 from ..version import __version__
@@ -22,6 +23,16 @@ PATH_OPTIONS = {"spectra": "--spectra", "transfer": "--transfer", "black": "--bl
 
 def _dest(option: str) -> str:
     return option.split("/")[-1].lstrip("-").replace("-", "_")
+
+
+def _named(args, filename) -> str:
+    """``filename``, after the option that gave it (or the folder or name it was written beside)."""
+    for dest, flag in PATH_OPTIONS.items():
+        value = getattr(args, dest, None)
+        if value is not None and filename is not None and (
+                str(filename) == str(value) or str(filename).startswith(str(Path(value).with_suffix("")))):
+            return f"{flag} {filename}"
+    return str(filename)
 
 
 def explain(error: InputError, args) -> str:
@@ -85,16 +96,17 @@ def main(argv=None) -> int:
         os.dup2(devnull, sys.stdout.fileno())
         return 0
     except IsADirectoryError as error:
-        print(f"stimlab: error: {error.filename}: is a folder; give a file name (for -o/--output, the file to "
-              "write)", file=sys.stderr)
+        print(f"stimlab: error: {_named(args, error.filename)}: is a folder; give a file name (for -o/--output, the "
+              "file to write)", file=sys.stderr)
         return 2
     except PermissionError as error:
-        print(f"stimlab: error: {error.filename}: permission denied; choose a file you may read or write",
-              file=sys.stderr)
+        print(f"stimlab: error: {_named(args, error.filename)}: permission denied; choose a file or folder you may "
+              "read or write", file=sys.stderr)
         return 2
     except OSError as error:
-        where = f"{error.filename}: " if error.filename else ""
-        print(f"stimlab: error: {where}{error.strerror or error}; check the path", file=sys.stderr)
+        where = f"{_named(args, error.filename)}: " if error.filename else ""
+        print(f"stimlab: error: {where}{error.strerror or error}; check the path and that the disk has room",
+              file=sys.stderr)
         return 2
     except InputError as error:
         print(f"stimlab: error: {explain(error, args)}", file=sys.stderr)

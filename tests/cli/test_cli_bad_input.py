@@ -252,3 +252,16 @@ def test_the_installed_command_prints_no_traceback(paths):
                             timeout=300)
     assert result.returncode == 2
     assert "Traceback" not in result.stderr and "--participant" in result.stderr
+
+
+def test_an_unwritable_output_names_the_option(paths, tmp_path, capsys, monkeypatch):
+    """As root every folder is writable, so the refusal the file system gives is simulated."""
+
+    def refuse(self, *args, **kwargs):
+        raise PermissionError(13, "Permission denied", str(self))
+
+    out = tmp_path / "compiled.json"
+    monkeypatch.setattr(Path, "write_text", refuse)
+    status = main(["compile", PROTOCOL, "--display", paths["display"], "-o", str(out)])
+    err = capsys.readouterr().err
+    assert status == 2 and f"-o/--output {out}: permission denied" in err and "Traceback" not in err
