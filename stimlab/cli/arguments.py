@@ -68,8 +68,8 @@ def numbers(count: int, *, integer: bool = False, positive: bool = False, high: 
         if (positive and min(values) <= 0) or (high is not None and max(values) > high):
             raise argparse.ArgumentTypeError(f"{_shown(text)} is out of range; give {count} {kind}")
         if integer:
-            if not all(float(v).is_integer() for v in values):
-                raise argparse.ArgumentTypeError(f"{_shown(text)} is not whole; give {count} {kind}")
+            if not all(p.strip().lstrip("+-").isdigit() for p in parts):  # 1.5 or 1e3: not typed as a count
+                raise argparse.ArgumentTypeError(f"{_shown(text)} is not whole; give {count} {kind}, in digits")
             values = [int(v) for v in values]
         return values
 

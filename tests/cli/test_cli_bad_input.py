@@ -89,6 +89,8 @@ CASES = [
     (BUILD + ["--size-cm", "53"], "--size-cm", "give 2"),
     (BUILD + ["--size-px", "1.5,2"], "--size-px", "whole"),
     (BUILD + ["--size-px", "1e9,1e9"], "--size-px", "up to 100000"),
+    (BUILD + ["--size-px", "1e3,1e3"], "--size-px", "in digits"),
+    (BUILD + ["--size-px", "1920,-1080"], "--size-px", "above 0"),
     (BUILD + ["--spectra", "{folder}"], "--spectra", "is a folder"),
     (BUILD + ["--spectra", "{missing}/s.csv"], "--spectra", "file not found"),
     (BUILD + ["--spectra", "{empty}"], "--spectra", "is empty"),
