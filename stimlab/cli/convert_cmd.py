@@ -9,28 +9,32 @@ from ..colorimetry.observers import OBSERVERS
 from ..colorimetry.stimulus import Background
 from ..errors import InputError
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, load_profile, profile_warnings
-from .arguments import whole
+from .arguments import OBSERVER_HELP, input_file, whole
 from .output import print_json
 
 
 def register(sub, numbers) -> None:
 
     convert = sub.add_parser("convert", help="convert one colour to device RGB and every other space")
-    convert.add_argument("--display", required=True, metavar="PROFILE.json", help="display profile")
-    convert.add_argument("--observer", choices=OBSERVERS, default="ss2", help="observer (default ss2)")
+    convert.add_argument("--display", required=True, metavar="PROFILE.json", type=input_file("display profile"),
+                         help="display profile, from 'stimlab display build' or the web app")
+    convert.add_argument("--observer", choices=OBSERVERS, default="ss2", help=OBSERVER_HELP)
     background = convert.add_mutually_exclusive_group()
     background.add_argument("--background", type=numbers(3), default=[0.5, 0.5, 0.5], metavar="R,G,B",
-                            help="background in linear RGB (default 0.5,0.5,0.5)")
+                            help="background in linear RGB, each 0..1 above black (default 0.5,0.5,0.5)")
     background.add_argument("--background-mb", type=numbers(3), metavar="l,s,cd",
                             help="background as MacLeod–Boynton l, s and luminance in cd/m²")
     colour = convert.add_mutually_exclusive_group(required=True)
-    colour.add_argument("--cone-contrast", type=numbers(3), metavar="cL,cM,cS", help="cone contrast")
+    colour.add_argument("--cone-contrast", type=numbers(3), metavar="cL,cM,cS",
+                        help="L, M and S cone contrast from the background, as fractions (0.1 = 10 %%)")
     colour.add_argument("--dkl", type=numbers(3), metavar="lum,lm,s",
-                        help="DKL, pooled-cone-contrast normalisation")
-    colour.add_argument("--rgb", type=numbers(3), metavar="r,g,b", help="linear RGB (0..1 above black)")
-    colour.add_argument("--mb", type=numbers(3), metavar="l,s,cd", help="MacLeod–Boynton l, s and luminance")
-    convert.add_argument("--max-age-days", type=whole(0, 100_000), default=DEFAULT_MAX_AGE_DAYS,
-                         help=f"warn when the profile is older than this (default {DEFAULT_MAX_AGE_DAYS})")
+                        help="DKL luminance, L−M and S from the background, in pooled cone contrast (fractions)")
+    colour.add_argument("--rgb", type=numbers(3), metavar="r,g,b",
+                        help="linear RGB, each 0..1 above black (outside that is reported out of gamut)")
+    colour.add_argument("--mb", type=numbers(3), metavar="l,s,cd",
+                        help="MacLeod–Boynton l, s and luminance in cd/m²")
+    convert.add_argument("--max-age-days", type=whole(0, 100_000), default=DEFAULT_MAX_AGE_DAYS, metavar="DAYS",
+                         help=f"warn when the profile is older than this many days (default {DEFAULT_MAX_AGE_DAYS})")
     convert.add_argument("--json", action="store_true", help="print one JSON object")
     convert.set_defaults(run=run)
 
@@ -57,7 +61,13 @@ def run(args) -> int:
                 raise
             except ValueError as error:
                 raise InputError(str(error), field=flag) from None
-    result = background.describe(LMS)
+    try:
+        result = background.describe(LMS)
+    except InputError:
+        raise
+    except ValueError as error:  # e.g. a colour at or below black, where MacLeod–Boynton is undefined
+        raise InputError(f"{error}; give a colour with some light (luminance above the display's black)",
+                         field=flag) from None
     result["warnings"] = profile_warnings(profile, args.max_age_days)
     if args.json:
         print_json(result)

@@ -11,7 +11,7 @@ import zipfile
 from pathlib import Path
 
 from ..errors import InputError
-from .arguments import whole
+from .arguments import data_folder, output_path, text, whole
 
 SESSION_HELP = ("csv: one row per trial (+ data dictionary and provenance beside it); frames: the frame log (+ the "
                 "same sidecars); json: everything; summary: per-condition measures; bids: a BIDS dataset (a folder, "
@@ -25,14 +25,17 @@ def register(sub, numbers) -> None:
 
     export = sub.add_parser("export", help="export a session or a whole study: trials, frames, BIDS, Parquet, JSON")
     export.add_argument("session", type=whole(1, 2**63 - 1), nargs="?", metavar="SESSION",
-                        help="session number (from the Sessions page); leave out with --study")
-    export.add_argument("--study", metavar="PROTOCOL", help="export every session of this protocol file instead")
+                        help="session number, 1 or more (from the Sessions page); leave out with --study")
+    export.add_argument("--study", metavar="PROTOCOL", type=text("the protocol file name, e.g. afterimage_null.json"),
+                        help="export every session of this protocol instead: its file name in the data folder, "
+                             "e.g. afterimage_null.json")
     export.add_argument("--format", choices=sorted(set(SESSION_FORMATS) | set(STUDY_FORMATS)), default="csv",
                         help=f"{SESSION_HELP}; {STUDY_HELP} (default csv)")
-    export.add_argument("-o", "--output", required=True, metavar="PATH", help="file (or folder) to write")
-    export.add_argument("--data", type=Path, default=None, metavar="DIR",
-                        help=f"data folder (default {default_data_dir()})")
-    export.set_defaults(run=run)
+    export.add_argument("-o", "--output", required=True, metavar="PATH", type=output_path("export", folder_ok=True),
+                        help="file (or, for bids and parquet, folder) to write; its folder must exist")
+    export.add_argument("--data", type=data_folder(), default=None, metavar="DIR",
+                        help=f"the data folder 'stimlab serve' uses (default {default_data_dir()})")
+    export.set_defaults(run=run, options={"protocol": "--study", "name": "--study", "format": "--format"})
 
 
 def _write(exported, output: Path) -> list[Path]:
@@ -62,26 +65,32 @@ def run(args) -> int:
     from ..sessions.ingest import get_session
     from ..sessions.store import Store, default_data_dir, safe_protocol_name
 
-    data = args.data or default_data_dir()
-    if not (Path(data) / "stimlab.sqlite").exists():
-        raise InputError("no stimlab database here; give the folder 'stimlab serve' uses with --data",
-                         file=str(data), field="--data")
     if (args.session is None) == (args.study is None):
         raise InputError("give either a SESSION number or --study PROTOCOL (not both)", field="SESSION")
+    formats = STUDY_FORMATS if args.study is not None else SESSION_FORMATS
+    if args.format not in formats:
+        raise InputError(f"{'a study' if args.study is not None else 'a session'} exports as "
+                         f"{', '.join(formats)}", field="--format")
+    output = Path(args.output)
+    folder = args.format in ("bids", "parquet") and output.suffix != ".zip"
+    if output.is_dir() and not folder:
+        raise InputError(f"{output} is a folder; give a file name inside it", field="-o/--output")
+    if output.exists() and not output.is_dir() and folder:
+        raise InputError(f"{output} is a file; {args.format} writes a folder: give a new folder name, or a name "
+                         "ending .zip", field="-o/--output")
+    data = args.data or default_data_dir()
+    if not (Path(data) / "stimlab.sqlite").is_file():
+        raise InputError(f"no stimlab database in {data}; give the folder 'stimlab serve' uses with --data",
+                         field="--data")
     store = Store(data)
     db = store.connect()
-    output = Path(args.output)
-    output.parent.mkdir(parents=True, exist_ok=True)
     if args.study is not None:
-        if args.format not in STUDY_FORMATS:
-            raise InputError(f"a study exports as {', '.join(STUDY_FORMATS)}", field="--format")
         written = _write(study_export(db, store, safe_protocol_name(args.study), args.format), output)
     else:
-        if args.format not in SESSION_FORMATS:
-            raise InputError(f"a session exports as {', '.join(SESSION_FORMATS)}", field="--format")
         session = get_session(db, args.session)
         if session is None:
-            raise InputError(f"there is no session {args.session} in {data}", field="SESSION")
+            raise InputError(f"there is no session {args.session} in {data}; the Sessions page lists the session "
+                             "numbers", field="SESSION")
         written = _write(session_export(db, store, session, args.format), output)
         stem = output.with_suffix("")
         for sidecar in SIDECARS.get(args.format, ()):

@@ -12,7 +12,7 @@ from ..experiment.protocol import load_protocol
 from ..profiles.profile import DEFAULT_MAX_AGE_DAYS, load_profile
 from ..sessions.observers import ADJUSTED_PREFIX, observer_for_protocol
 from ..sessions.store import Store, default_data_dir
-from .arguments import whole
+from .arguments import MAX_PARTICIPANT, data_folder, input_file, output_path, participant, whole
 from .output import print_json
 
 HEADINGS = {"display": "Display", "gamut": "Gamut", "headroom": "Headroom", "bit_depth": "Bit depth",
@@ -21,34 +21,38 @@ HEADINGS = {"display": "Display", "gamut": "Gamut", "headroom": "Headroom", "bit
 
 
 def _common(parser) -> None:
-    parser.add_argument("protocol", metavar="PROTOCOL.json")
-    parser.add_argument("--display", required=True, metavar="PROFILE.json", help="display profile")
-    parser.add_argument("--participant", type=whole(0, 1_000_000), default=1,
-                        help="participant number for Latin-square counterbalancing (default 1)")
-    parser.add_argument("--seed", type=whole(0, 2**32 - 1), help="override the protocol's seed for trial order")
-    parser.add_argument("--data", metavar="DIR",
+    parser.add_argument("protocol", metavar="PROTOCOL.json", type=input_file("protocol file"),
+                        help="a protocol file (format in protocols/README.md)")
+    parser.add_argument("--display", required=True, metavar="PROFILE.json", type=input_file("display profile"),
+                        help="display profile, from 'stimlab display build' or the web app")
+    parser.add_argument("--participant", type=participant, default=1, metavar="N|CODE",
+                        help=f"participant number 1 to {MAX_PARTICIPANT:,}, or a code such as P07 whose last digits "
+                             "give the number as on the Run page; chooses the Latin-square row (default 1)")
+    parser.add_argument("--seed", type=whole(0, 2**32 - 1), metavar="N",
+                        help="seed for the trial order, 0 to 4294967295 (default: the protocol's own)")
+    parser.add_argument("--data", metavar="DIR", type=data_folder(),
                         help="the data folder of 'stimlab serve', for protocols whose observer is "
                              "adjusted:<participant> (default ~/.local/share/stimlab)")
+    parser.set_defaults(options={"size_cm": "--display", "size_px": "--display"})
 
 
 def register(sub, numbers) -> None:
     audit = sub.add_parser("audit", help="check every stimulus, phase and trial of a protocol on a display")
     _common(audit)
-    audit.add_argument("--max-age-days", type=whole(0, 100_000), default=DEFAULT_MAX_AGE_DAYS,
-                       help=f"warn when the profile is older than this (default {DEFAULT_MAX_AGE_DAYS})")
+    audit.add_argument("--max-age-days", type=whole(0, 100_000), default=DEFAULT_MAX_AGE_DAYS, metavar="DAYS",
+                       help=f"warn when the profile is older than this many days (default {DEFAULT_MAX_AGE_DAYS})")
     audit.add_argument("--all", action="store_true", help="also list the informational findings")
     audit.add_argument("--json", action="store_true", help="print the findings as JSON")
     audit.set_defaults(run=run_audit)
 
     compile_ = sub.add_parser("compile", help="compile a protocol to frames, pixels and device levels")
     _common(compile_)
-    compile_.add_argument("-o", "--output", required=True, metavar="COMPILED.json")
+    compile_.add_argument("-o", "--output", required=True, metavar="COMPILED.json", type=output_path("compiled file"),
+                          help="where to write the compiled protocol (JSON); its folder must exist")
     compile_.set_defaults(run=run_compile)
 
 
 def _load(args):
-    if args.participant < 1:
-        raise ValueError("--participant must be 1 or more")
     protocol = load_protocol(args.protocol)
     profile = load_profile(args.display)
     compiled = compile_protocol(protocol, profile, participant=args.participant, seed=args.seed,

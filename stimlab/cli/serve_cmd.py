@@ -3,21 +3,25 @@
 from __future__ import annotations
 
 import secrets
+import socket
 import sys
-from pathlib import Path
 
 from ..errors import InputError
 from ..version import __version__
+from .arguments import data_folder, host, whole
 
 
 def register(sub, numbers) -> None:
     from ..sessions.store import default_data_dir
 
     serve = sub.add_parser("serve", help="start the local web app")
-    serve.add_argument("--host", default="127.0.0.1", help="address to bind (default 127.0.0.1, this computer only)")
-    serve.add_argument("--port", type=int, default=8150, help="port (default 8150)")
-    serve.add_argument("--data", type=Path, default=None, metavar="DIR",
-                       help=f"data folder for the database and protocol files (default {default_data_dir()})")
+    serve.add_argument("--host", default="127.0.0.1", type=host, metavar="ADDR",
+                       help="address to bind (default 127.0.0.1, this computer only)")
+    serve.add_argument("--port", type=whole(1, 65535), default=8150, metavar="N",
+                       help="TCP port, 1 to 65535 (default 8150)")
+    serve.add_argument("--data", type=data_folder(create=True), default=None, metavar="DIR",
+                       help="data folder for the database and protocol files, made on first use if its parent "
+                            f"exists (default {default_data_dir()})")
     serve.add_argument("--demo", action="store_true",
                        help="add the demo display and protocols to the data folder if they are missing")
     serve.set_defaults(run=run)
@@ -28,8 +32,11 @@ def run(args) -> int:
     from ..web import create_app
     from ..web.server import serve
 
-    if not 1 <= args.port <= 65535:
-        raise InputError(f"{args.port} is not a port; use 1–65535", field="--port")
+    try:  # a host name that does not resolve would otherwise fail only after the app and the token are made
+        socket.getaddrinfo(args.host, args.port, type=socket.SOCK_STREAM)
+    except OSError:
+        raise InputError(f"{args.host!r} is not an address of this computer's network (the name does not "
+                         "resolve); give an IP address such as 127.0.0.1 or 0.0.0.0", field="--host") from None
     data = args.data or default_data_dir()
     shown = f"[{args.host}]" if ":" in args.host else args.host
     token = None
