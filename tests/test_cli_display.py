@@ -27,6 +27,19 @@ def build(files, *extra, spectra="spectra.csv", transfer="transfer.csv"):
                  "-o", str(files / "profile.json"), *extra])
 
 
+@pytest.mark.parametrize("background", [[], ["--background", "0,0,0"]])
+def test_the_background_itself_has_no_direction_to_scale(files, capsys, background):
+    # Round-trip noise (~1e-16 in linear RGB) once reported ×3e15, and on black ×inf, which is not JSON at all.
+    assert build(files) == 0
+    capsys.readouterr()
+    convert = ["convert", "--display", str(files / "profile.json"), "--dkl", "0,0,0", *background]
+    assert main([*convert, "--json"]) == 0
+    result = json.loads(capsys.readouterr().out)
+    assert result["in_gamut"] is True and result["max_scale_in_gamut"] is None and result["limiting_channel"] is None
+    assert main(convert) == 0
+    assert "the background itself, so there is no direction to scale" in capsys.readouterr().out
+
+
 def test_build_show_convert(files, capsys):
     assert build(files) == 0
     out = capsys.readouterr().out

@@ -103,8 +103,11 @@ def print_table(r: dict) -> None:
     if r["in_gamut"]:
         print(_row("device RGB", r["rgb_device"], "{:d}"))
         print(_row("one level, in cone contrast", r["quantisation_cone_contrast"], "{:.5f}"))
-        print(f"  in gamut: yes; this direction can be scaled ×{r['max_scale_in_gamut']:.3f} before the "
-              f"{r['limiting_channel'] or 'no'} channel limits it")
+        if r["max_scale_in_gamut"] is None:
+            print("  in gamut: yes; this is the background itself, so there is no direction to scale")
+        else:
+            print(f"  in gamut: yes; this direction can be scaled ×{r['max_scale_in_gamut']:.3f} before the "
+                  f"{r['limiting_channel']} channel limits it")
     else:
         over = ", ".join(f"{c} {v:+.4f}" for c, v in r["out_of_gamut"].items())
         fits = r["max_scale_in_gamut"]

@@ -28,6 +28,10 @@ from .spaces import LMS_to_cone_contrast, LMS_to_DKL, LMS_to_MacLeod_Boynton
 
 __all__ = ["describe_colour", "rod_figures"]
 
+SAME_AS_BACKGROUND = 1e-12
+"""Largest difference from the background in linear RGB (fraction of full drive) read as none: numerical noise of a
+round trip through cone space, far below one device level at any bit depth stimlab supports (2⁻¹⁶)."""
+
 
 def rod_figures(model: DisplayModel, RGB: ArrayLike, RGB_0: ArrayLike) -> dict:
     """Rod contrast against a background and scotopic luminance of one colour.
@@ -87,7 +91,8 @@ def describe_colour(model: DisplayModel, RGB_0: ArrayLike, display_maximum: Disp
         ``luminance_cd_m2``, CIE ``xyY`` (Y in cd/m²) and ``lab`` (white = full drive), ``rgb_device`` (device
         levels 0..2^bits − 1, ``None`` out of gamut), ``out_of_gamut`` (how far each offending channel lies
         outside 0..1, ``None`` in gamut), ``quantisation_cone_contrast`` (one device level in cone contrast),
-        ``max_scale_in_gamut`` (the in-gamut scale, ≥ 0), ``limiting_channel``, the background, display and
+        ``max_scale_in_gamut`` (the in-gamut scale, ≥ 0; ``None`` for the background itself, which has no
+        direction to scale), ``limiting_channel``, the background, display and
         observer, and the rod figures of :func:`rod_figures`.
     """
     obs = model.observer
@@ -96,7 +101,11 @@ def describe_colour(model: DisplayModel, RGB_0: ArrayLike, display_maximum: Disp
     LMS = np.asarray(LMS, dtype=float)
     RGB = model.LMS_to_RGB_linear(LMS)
     inside = bool(is_within_gamut(RGB))
-    scale, channel = scale_limit(RGB_0, RGB - RGB_0)
+    delta = RGB - RGB_0
+    # A round trip through cone space leaves ~1e-16 of noise on the background itself: far below one device level
+    # (1/65535 at 16 bits), it is no direction, and scaling it would report a meaningless ×1e15.
+    delta[np.abs(delta) < SAME_AS_BACKGROUND] = 0.0
+    scale, channel = scale_limit(RGB_0, delta)
     XYZ = model.RGB_linear_to_XYZ(RGB)
     white = model.RGB_linear_to_XYZ(np.ones(3))
     DKL = LMS_to_DKL(LMS, LMS_0, obs.w_L, obs.w_M)
@@ -115,7 +124,7 @@ def describe_colour(model: DisplayModel, RGB_0: ArrayLike, display_maximum: Disp
         "xyY": colour.XYZ_to_xyY(XYZ).tolist(),
         "lab": colour.XYZ_to_Lab(XYZ / white[1], colour.XYZ_to_xy(white)).tolist(),
         "quantisation_cone_contrast": None,
-        "max_scale_in_gamut": float(scale),
+        "max_scale_in_gamut": float(scale) if np.isfinite(scale) else None,
         "limiting_channel": CHANNELS[int(channel)] if channel >= 0 else None,
         "background_rgb_linear": RGB_0.tolist(),
         "observer": obs.key,
