@@ -326,7 +326,11 @@ def _timing(findings, compiled, protocol):
 def _photosensitivity(findings, compiled, protocol) -> bool:
     flicker = any(s.get("time_course", {}).get("kind", "steady") != "steady" for s in protocol["stimuli"])
     if flicker:
-        findings.add("photosensitivity", "warn", "protocol", "this protocol flickers. " + CAUTION)
+        flickering = ", ".join(s["name"] for s in protocol["stimuli"] if s.get("time_course", {}).get("kind", "steady")
+                               != "steady")
+        # The caution itself is the report's ``caution``, shown once above the findings by every front end.
+        findings.add("photosensitivity", "warn", "protocol", f"this protocol flickers ({flickering}): the "
+                     "photosensitivity caution applies, and the runner shows it before every session")
     cases = [(analyse_sequence(compiled), "")]
     ends = {}
     for condition in compiled.conditions:
