@@ -57,7 +57,9 @@ def test_induction_is_signed_contrast_with_an_interval_per_condition(matched):
 def test_the_session_page_shows_signed_components_not_a_ratio_of_lengths(matched, client):
     db, session = matched
     page = client.get(f"/sessions/{session['id']}").text
-    assert "Along adapting direction" in page and "contrast" in page and "Strength = |null|" not in page
+    # a contrast match is measured against the surround, not an adapter
+    assert "Along surround direction" in page and "contrast" in page and "Strength = |null|" not in page
+    assert "× surround" in page and "× adapter" not in page
     assert "95 % confidence interval" in page and "/figures/vectors.svg" in page
 
 
@@ -79,3 +81,38 @@ def test_an_after_image_null_along_the_adapter_is_positive_for_either_polarity(a
     row = summary["rows"][0]
     assert isinstance(row["test_disc_dkl_lm"], float) and isinstance(row["test_disc_device_r"], int)
     assert isinstance(row["response_position"], float)  # one axis: one column
+
+
+PHOTOMETRY_SETTINGS = [-0.01, 0.005, 0.0, -0.005, 0.01, -0.005]  # on the 0.005 ladder; mean −0.005/6 = −0.000833
+
+
+@pytest.fixture
+def photometry(app, client):
+    settings = iter(PHOTOMETRY_SETTINGS)
+    session_id = sim.run(app, client, "flicker_photometry.json", "P07",
+                         lambda trial, condition: sim.adjustment(next(settings), condition["response"], rt_ms=2228.5))
+    db = app.extensions["stimlab.store"].connect()
+    return db, get_session(db, session_id)
+
+
+def test_flicker_photometry_reports_the_mean_setting_along_the_adjustment_axis(photometry, client):
+    """flicker_photometry.json sets DKL luminance (axis [1, 0, 0]) under a fixed +0.08 L−M flicker: the measure is
+    the mean setting, −0.000833 DKL, not the disc's L−M amplitude."""
+    db, session = photometry
+    entry = session_summary(db, session)["conditions"][0]
+    assert entry["setting_axes"] == ["DKL luminance"]
+    assert entry["setting"][0]["mean"] == pytest.approx(-0.005 / 6) and entry["setting"][0]["n"] == 6
+    page = client.get(f"/sessions/{session['id']}").text
+    assert "Mean setting along DKL luminance (axis units)" in page and "−0.0008" in page
+    assert "+0.0800" not in page and "Mean (L−M, S) DKL" not in page
+    assert ">2.23</td>" in page  # response time: no sign
+
+
+def test_pages_write_numbers_with_a_minus_sign_and_no_negative_zero(app):
+    from stimlab.web.sessions import number_text, time_text
+
+    assert number_text(-0.0004, "%+.2f") == "0.00" and number_text(-0.25, "%+.2f") == "\u22120.25"
+    assert number_text(0.25) == "+0.2500" and number_text(None) == "—"
+    # ISO 8601 (RFC 3339) timestamps shown in UTC to the second
+    assert time_text("2026-12-02T06:33:38.942+00:00") == "2026-12-02 06:33:38 UTC"
+    assert time_text("2026-12-02T08:33:38+02:00") == "2026-12-02 06:33:38 UTC"
