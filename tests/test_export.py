@@ -63,3 +63,52 @@ def test_the_session_page_streams_the_same_frame_log(logged, client):
     assert answer.status_code == 200 and answer.mimetype == "text/csv"
     assert answer.headers["Content-Disposition"].endswith('_frames.csv"')
     assert answer.text == out.getvalue() and answer.text.count("\n") == 52
+
+
+def test_the_early_end_reason_goes_everywhere_the_status_goes(app, client, tmp_path):
+    """README: a session ended early keeps "a reason, kept with the session and its exports": the provenance, the
+    trial table (CSV, BIDS, Parquet), the summary and the BIDS scans file all carry it beside the status."""
+    import json
+    import zipfile
+
+    import pyarrow.parquet as pq
+    import simulated_sessions as sim
+
+    from stimlab.sessions.export import session_export, study_export
+
+    session_id = sim.create(client, "contrast_match.json", "E01")
+    reason = "participant felt unwell after block 1"
+    answer = client.post(f"/api/sessions/{session_id}/end", headers={"X-CSRF-Token": client.csrf},
+                         json={"reason": reason})
+    assert answer.status_code == 200, answer.text
+    store = app.extensions["stimlab.store"]
+    db = store.connect()
+    session = get_session(db, session_id)
+
+    def export(fmt):
+        return session_export(db, store, session, fmt).content
+
+    provenance = json.loads(export("provenance"))["session"]
+    assert provenance["status"] == "ended_early" and provenance["end_reason"] == reason
+    rows = list(csv.DictReader(io.StringIO(export("csv"))))
+    assert {(r["session_status"], r["session_end_reason"]) for r in rows} == {("ended_early", reason)}
+    dictionary = json.loads(export("dictionary"))
+    assert "ended early" in dictionary["session_end_reason"]["Description"]
+    summary = json.loads(export("summary"))
+    assert summary["status"] == "ended_early" and summary["end_reason"] == reason
+    with zipfile.ZipFile(io.BytesIO(export("bids"))) as archive:
+        names = archive.namelist()
+        scans = next(n for n in names if n.endswith("_scans.tsv"))
+        lines = [line.split("\t") for line in archive.read(scans).decode().splitlines()]
+        assert lines[0] == ["filename", "session_status", "session_end_reason", "dry_run"]
+        assert lines[1][0] == "beh/sub-E01_task-contrastmatch_run-1_beh.tsv" and lines[1][1:3] == ["ended_early", reason]
+        assert any(n.endswith(lines[1][0].split("/")[1]) for n in names)  # the file it names is there
+        assert "session_end_reason" in json.loads(archive.read(scans.replace(".tsv", ".json")))
+    folder = tmp_path / "pq"
+    folder.mkdir()
+    with zipfile.ZipFile(io.BytesIO(study_export(db, store, "contrast_match.json", "parquet").content)) as archive:
+        archive.extractall(folder)
+    sessions = pq.read_table(next(folder.rglob("sessions.parquet"))).to_pylist()
+    assert sessions[0]["status"] == "ended_early" and sessions[0]["end_reason"] == reason
+    page = client.get(f"/sessions/{session_id}").text
+    assert reason in page

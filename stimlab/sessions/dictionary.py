@@ -21,6 +21,10 @@ _WHOSE = {"start": "the adjustment's start (after jitter)", "response": "the res
 _FIXED = {
     "session": ("Session number in the stimlab database", None),
     "participant": ("Participant's pseudonymous code", None),
+    "session_status": ("Status of the session when exported: running, interrupted, complete or ended_early",
+                       None),
+    "session_end_reason": ("The experimenter's reason for ending the session early (empty unless ended early)",
+                           None),
     "protocol_sha256": ("SHA-256 of the protocol file's canonical JSON (identifies the protocol version)", None),
     "display_sha256": ("SHA-256 of the display profile the session was compiled for", None),
     "trial": ("Trial index in the compiled protocol (0-based)", None),

@@ -201,7 +201,8 @@ def session_summary(db, session: dict) -> dict:
     from .trials import trial_rows
 
     rows = trial_rows(db, session)
-    return {"session": session["id"], "participant": session["participant"],
+    return {"session": session["id"], "participant": session["participant"], "status": session.get("status"),
+            "end_reason": session.get("end_reason"),
             "dry_run": bool(rows[0]["dry_run"]) if rows else False, "rows": rows,
             "timing": timing(db, session), "conditions": by_condition(session, rows),
             "photometry": photometry_summary(session, rows),

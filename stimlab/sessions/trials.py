@@ -5,6 +5,9 @@ cone contrast, DKL and device levels. Adjustment colours are recomputed from the
 (``origin_lms + position · axis_lms``), the same map the runner's ladder was built from, so the exported values
 are those of the device levels the participant saw. Times are seconds from the session's first frame.
 
+Every row repeats the session's status and, for a session ended early, the experimenter's reason, so that a
+table read on its own says the session was cut short.
+
 Flags that older sessions do not carry (``practice`` on a compiled trial, ``dry_run`` on a session) read as
 ``False``.
 """
@@ -128,6 +131,7 @@ def trial_rows(db, session: dict) -> list[dict]:
         end = ends.get(trial["index"])
         end_t = None if end is None or origin is None else round((end["t"] - origin) / 1000, 6)
         row = {"session": session["id"], "participant": session["participant"],
+               "session_status": session.get("status"), "session_end_reason": session.get("end_reason"),
                "protocol_sha256": session.get("protocol_sha256") or data["protocol"]["sha256"],
                "display_sha256": data["display"]["sha256"], "trial": trial["index"], "block": trial["block"],
                "condition": condition["label"], "condition_index": trial["condition"],
