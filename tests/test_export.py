@@ -112,3 +112,48 @@ def test_the_early_end_reason_goes_everywhere_the_status_goes(app, client, tmp_p
     assert sessions[0]["status"] == "ended_early" and sessions[0]["end_reason"] == reason
     page = client.get(f"/sessions/{session_id}").text
     assert reason in page
+
+
+def test_the_background_is_filled_on_every_frame_that_draws_it(app, client):
+    """What the runner logs as 'drawn' (static/js/runner/schedule.js, screens.js): trial phases log their stimuli
+    only, over the background; settle frames and the screens between trials log the background first; paused
+    frames draw nothing. Every frame but the paused one has the background's levels."""
+    import json
+
+    import pyarrow as pa
+
+    from stimlab.sessions.export import session_export
+    from stimlab.sessions.frame_table import frame_chunks, frame_columns
+    from stimlab.sessions.parquet import _frame_table
+
+    created = client.post("/api/sessions", headers={"X-CSRF-Token": client.csrf},
+                          json={"protocol": "afterimage_null.json", "display": 1, "participant": "F01"})
+    session_id = created.get_json()["id"]
+    store = app.extensions["stimlab.store"]
+    db = store.connect()
+    data = get_session(db, session_id)["compiled"]
+    background = ",".join(map(str, data["background"]["device"]))
+    adapter = ",".join(map(str, data["conditions"][0]["stimuli"]["adapter"]["colour"]["device"]))
+    shown = [("settle", None, background, -1), ("pre_adapt", None, f"{background};text 10,10,10;fixation 0,0,0", -1),
+             ("pause", None, None, -1), ("adapt", 0, adapter, 0), ("adapt", 0, adapter, 1), ("gap", 0, "", 0)]
+    count = len(shown)
+    frames = {"frame": list(range(count)), "t_raf": [1000.0 + 16.7 * i for i in range(count)],
+              "t_callback": [1000.05 + 16.7 * i for i in range(count)], "trial": [s[1] for s in shown],
+              "phase": [s[0] for s in shown], "dropped": [0] * count, "drawn": [s[2] for s in shown],
+              "in_phase": [s[3] for s in shown]}
+    answer = client.post(f"/api/sessions/{session_id}/batches", headers={"X-CSRF-Token": client.csrf},
+                         json={"batch": 0, "frames": frames})
+    assert answer.status_code == 200, answer.text
+    session = get_session(db, session_id)
+    rows = list(csv.DictReader(io.StringIO("".join(session_export(db, store, session, "frames").content))))
+    drawn = [",".join(r[f"drawn_background_device_{c}"] for c in "rgb") for r in rows]
+    assert drawn == [background, background, ",,", background, background, background]
+    assert [",".join(r[f"drawn_adapter_device_{c}"] for c in "rgb") for r in rows][3:5] == [adapter, adapter]
+    assert [r["in_phase"] for r in rows] == ["-1", "-1", "-1", "0", "1", "0"]
+    block, device = next(frame_chunks(db, session))
+    table = _frame_table(block, device, frame_columns(data))
+    assert table.column("drawn_background_device_r").null_count == 1  # the paused frame only
+    assert pa.types.is_integer(table.column("drawn_background_device_g").type)
+    sidecar = json.loads(session_export(db, store, session, "frames-dictionary").content)
+    assert "index within its trial phase" in sidecar["in_phase"]["Description"]
+    assert not [c for c, e in sidecar.items() if e["Description"].startswith("Column ")]

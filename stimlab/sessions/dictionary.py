@@ -27,8 +27,9 @@ _FIXED = {
                            None),
     "protocol_sha256": ("SHA-256 of the protocol file's canonical JSON (identifies the protocol version)", None),
     "display_sha256": ("SHA-256 of the display profile the session was compiled for", None),
-    "trial": ("Trial index in the compiled protocol (0-based)", None),
-    "block": ("Block index (0-based)", None),
+    "trial": ("Trial index in the compiled protocol, counted from 0 (the session page numbers trials from 1); in the "
+              "frame log, empty for frames outside trials", None),
+    "block": ("Block index, counted from 0 (the session page numbers blocks from 1)", None),
     "condition": ("Condition label: the condition variables and their levels", None),
     "condition_index": ("Condition index in the compiled protocol (0-based)", None),
     "practice": ("True for a practice trial (not for analysis)", None),
@@ -50,6 +51,10 @@ _FIXED = {
     "t_callback": ("performance.now() at the start of the frame callback (browser clock, exact double)", "ms"),
     "phase": ("Phase being drawn (settle and pause frames belong to no trial)", None),
     "dropped": ("1 when the interval before this frame was at least 1.5 refresh periods", None),
+    "in_phase": ("The frame's index within its trial phase, 0 for the phase's first frame; -1 outside trial phases "
+                 "(settle, pause and the screens between trials)", "count"),
+    "drawn": ("What the runner drew this frame: device levels 'r,g,b' per stimulus of the phase, ';'-separated, "
+              "'patch' for a patterned one; the background first on settle frames and screens", None),
     "onset": ("Time of the phase's first frame from the first frame of the session", "s"),
     "duration": ("Time from this phase's first frame to the next phase's first frame", "s"),
     "trial_type": ("Phase of the trial", None),
