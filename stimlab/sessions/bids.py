@@ -23,7 +23,7 @@ import re
 
 from ..version import __version__
 from .dictionary import dictionary
-from .trials import session_events, session_origin_ms, trial_rows
+from .trials import ending_key, session_events, session_origin_ms, trial_rows
 
 __all__ = ["bids_label", "bids_events", "bids_files", "EVENT_LEVELS", "BIDS_VERSION"]
 
@@ -77,7 +77,7 @@ def bids_events(db, session: dict) -> list[dict]:
                "practice": bool(data["trials"][onset["trial"]].get("practice", False)),
                "condition": data["conditions"][onset.get("condition", data["trials"][onset["trial"]]["condition"])]
                ["label"], "frame": onset.get("frame"), "response_time": None if rt is None else round(rt / 1000, 6),
-               "response_key": result.get("key")}
+               "response_key": ending_key(data, data["trials"][onset["trial"]], result) if result else None}
         for name, value in zip(positions, position if isinstance(position, list) else [position]):
             row[name] = None if value is None else round(float(value), 9)
         rows.append(row)

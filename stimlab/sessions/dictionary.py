@@ -41,7 +41,9 @@ _FIXED = {
     "dropped_frames": ("Dropped frames (interval ≥ 1.5 refresh periods) during the trial", "count"),
     "end_s": ("End of the trial, from the first frame of the session", "s"),
     "response_method": ("How the response was given (adjustment, 2afc, yes_no, duration)", None),
-    "response_key": ("Key that ended the trial (DOM KeyboardEvent.key)", None),
+    "response_key": ("Key that ended the trial (DOM KeyboardEvent.key): the answer key of a choice or duration "
+                     "response, the confirming key (e.g. Enter) of an adjustment; empty when the trial timed out",
+                     None),
     "response_choice": ("Choice index: 0 for the first key of the response, 1 for the second", None),
     "response_correct": ("True when the choice was correct (2AFC) or 'yes' (yes/no)", None),
     "response_time_s": ("Time from the first frame of the respond phase to the key press", "s"),
@@ -72,21 +74,31 @@ _PATTERNS = [
     (re.compile(r"^(?P<who>start|response)_position(_(?P<i>\d))?$"),
      lambda m: (f"Position of {_WHOSE[m['who']]} along the adjustment "
                 f"{'axis' if not m['i'] else 'direction ' + m['i']} (axis units; 1 = the axis vector)", UNITLESS)),
-    (re.compile(r"^(?P<who>.+?)(?P<second>_second)?_cone_contrast_(?P<a>[LMS])$"),
+    (re.compile(r"^(?P<who>.+?)(?P<second>_second)?(?P<opposite>_opposite)?_cone_contrast_(?P<a>[LMS])$"),
      lambda m: (f"{_AXIS[m['a']]} contrast of {_who(m)} against the background (ΔL/L0 etc.)", UNITLESS)),
-    (re.compile(r"^(?P<who>.+?)(?P<second>_second)?_dkl_(?P<a>lum|lm|s)$"),
+    (re.compile(r"^(?P<who>.+?)(?P<second>_second)?(?P<opposite>_opposite)?_dkl_(?P<a>lum|lm|s)$"),
      lambda m: (f"DKL {_DKL[m['a']]} coordinate of {_who(m)} (Brainard 1996 scaling: pooled cone contrast 1)",
                 UNITLESS)),
-    (re.compile(r"^(?P<who>.+?)(?P<second>_second)?_device_(?P<c>[rgb])$"),
+    (re.compile(r"^(?P<who>.+?)(?P<second>_second)?(?P<opposite>_opposite)?_device_(?P<c>[rgb])$"),
      lambda m: (f"Device level of the {'red green blue'.split()['rgb'.index(m['c'])]} channel for {_who(m)} "
                 "(empty when out of gamut or patterned)", "level")),
 ]
 
 
 def _who(m) -> str:
+    text = _plain_who(m)
+    if m.groupdict().get("opposite"):
+        return (f"the opposite extreme of {text} (2·LMS0 − LMS: the other phase of a square or counterphase flicker "
+                "or of a grating's bars)")
+    return text
+
+
+def _plain_who(m) -> str:
     who = m["who"]
+    if who == "drawn_background":
+        return "the background as drawn in this frame (empty on paused frames, which draw nothing)"
     if who.startswith("drawn_"):
-        return f"the {who[len('drawn_'):]!r} stimulus as drawn in this frame"
+        return f"the {who[len('drawn_'):]!r} stimulus as drawn in this frame (empty when the phase does not show it)"
     if who in _WHOSE:
         return _WHOSE[who]
     return f"the {who!r} stimulus's {'second colour (surround, or the other half)' if m['second'] else 'colour'}"
