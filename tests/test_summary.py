@@ -116,3 +116,68 @@ def test_pages_write_numbers_with_a_minus_sign_and_no_negative_zero(app):
     # ISO 8601 (RFC 3339) timestamps shown in UTC to the second
     assert time_text("2026-12-02T06:33:38.942+00:00") == "2026-12-02 06:33:38 UTC"
     assert time_text("2026-12-02T08:33:38+02:00") == "2026-12-02 06:33:38 UTC"
+
+
+def test_a_dry_run_page_is_a_labelled_preview_and_links_no_study_without_a_real_session(app, client):
+    created = client.post("/api/sessions", headers={"X-CSRF-Token": client.csrf},
+                          json={"protocol": "contrast_match.json", "display": 1, "participant": "D01",
+                                "dry_run_factor": 0.1})
+    assert created.status_code == 201, created.text
+    dry = created.get_json()["id"]
+    page = client.get(f"/sessions/{dry}").text
+    assert page.count("Dry run</strong>") == 1 and "left out of the analysis below" not in page
+    assert "dry-run preview" in page  # on every analysis section
+    study = "/studies/contrast_match.json"
+    assert client.get(study).status_code == 404  # only a dry run so far
+    assert f'href="{study}"' not in page and f'href="{study}"' not in client.get("/sessions").text
+    assert 'href="/studies/contrast_match.json"' not in client.get("/sessions?protocol=contrast_match.json").text
+    real = sim.run(app, client, "contrast_match.json", "P02",
+                   lambda trial, condition: sim.adjustment([0.0, 0.0], condition["response"]))
+    assert client.get(study).status_code == 200
+    assert f'href="{study}"' in client.get(f"/sessions/{dry}").text
+    real_page = client.get(f"/sessions/{real}").text
+    assert f'href="{study}"' in real_page and "dry-run preview" not in real_page
+    assert f'href="{study}"' in client.get("/sessions").text
+
+
+def test_the_session_page_numbers_from_one_and_shows_times_in_utc(matched, client):
+    db, session = matched
+    page = client.get(f"/sessions/{session['id']}").text
+    trials = page[page.index("<h2>Trials"):]
+    first_row = trials[trials.index("<tbody>"):].split("</tr>")[0]
+    assert first_row.startswith("<tbody><tr><td>1</td><td>1</td>")  # trial 0, block 0 in the exports
+    assert "numbered from 1 here; the exports count them from 0" in page
+    started = session["started_at"]
+    assert started not in page and f"{started[:10]} {started[11:19]} UTC" in page
+    assert "-0.00" not in page
+
+
+def test_phases_stretched_by_dropped_frames_are_named_in_a_warning(app, client):
+    """afterimage_duration.json: adapt then respond. Trial 0's adapt phase lasts 21 frames (350 ms) longer than
+    planned (dropped frames: the runner counts frames, so each one late lengthens the phase); trial 1's runs to
+    plan."""
+    from stimlab.sessions.timing import timing
+
+    session_id = sim.create(client, "afterimage_duration.json", "W01")
+    db = app.extensions["stimlab.store"].connect()
+    data = get_session(db, session_id)["compiled"]
+    planned = data["schedules"]["first"][0]["frames"] * sim.PERIOD
+    onsets, t = [], 1000.0
+    for trial, late in ((0, 350.0), (1, 0.0)):
+        onsets += [(t, trial, "adapt"), (t + planned + late, trial, "respond")]
+        t += planned + late + 2000
+    events = [{"seq": i, "t": when, "kind": "phase_onset", "trial": trial, "phase": phase,
+               "data": {"frame": i, "condition": data["trials"][trial]["condition"]}}
+              for i, (when, trial, phase) in enumerate(onsets)]
+    frames = {"frame": [0, 1], "t_raf": [1000.0, 1000.0 + sim.PERIOD], "t_callback": [1000.05, 1016.75],
+              "trial": [0, 0], "phase": ["adapt", "adapt"], "dropped": [0, 0], "drawn": ["", ""]}
+    answer = client.post(f"/api/sessions/{session_id}/batches", headers={"X-CSRF-Token": client.csrf},
+                         json={"batch": 0, "frames": frames, "events": events})
+    assert answer.status_code == 200, answer.text
+    quality = timing(db, get_session(db, session_id))
+    assert quality["stretched_trials"] == 1
+    assert quality["stretched_phases"]["adapt"]["trials"] == 1
+    assert quality["stretched_phases"]["adapt"]["max_ms"] == pytest.approx(350.0)
+    page = client.get(f"/sessions/{session_id}").text
+    assert "Dropped frames lengthened 1 trial</strong>" in page and "the adapt phase in 1 trial" in page
+    assert "up to +350 ms longer" in page

@@ -63,8 +63,12 @@ def _intervals(spec: dict, figure) -> None:
                         color=PALETTE[1])
     ax.axvline(limit, color=PALETTE[1], linestyle="--",
                label=f"dropped-frame limit ({DROPPED_FRAME_PERIODS:g} × {spec['period_ms']:.2f} ms)")
-    ax.set_yscale("log")
-    ax.set_ylim(0.7, max(2.0, counts.max() * 3 if counts.size else 2.0))
+    if counts.sum() > 0:  # an empty log has nothing to scale
+        from matplotlib.ticker import FuncFormatter
+
+        ax.set_yscale("log")
+        ax.set_ylim(0.7, max(2.0, counts.max() * 3))
+        ax.yaxis.set_major_formatter(FuncFormatter(lambda value, _: f"{value:g}"))  # 1, 10, 100: plain numbers
     ax.set(xlabel="frame interval (ms)", ylabel="frames (log scale)", title="Frame intervals")
     ax.legend(fontsize=8, frameon=False)
 
