@@ -105,6 +105,7 @@ def _study(spec: dict, figure) -> None:
                 label="mean over participants, 95 % CI")
     ax.axhline(0, color="0.85", lw=0.8, zorder=0)
     ax.set_xticks(range(len(labels)), labels, rotation=20, ha="right", fontsize=8)
+    ax.set_xlim(-0.5, len(labels) - 0.5)  # one condition too: participants stay beside their mean
     ax.set_ylabel(textwrap.fill(spec["measure"], 34))
     ax.set_title(textwrap.fill(spec["title"], 60), fontsize=9)
     ax.legend(fontsize=8, frameon=False)

@@ -52,7 +52,7 @@ def study_summary(db, protocol_file: str, sessions: list[dict]) -> dict:
         entry["sessions"].append(session["id"])
         entry["rows"] += trial_rows(db, session)
     conditions = [c["label"] for c in sessions[0]["compiled"]["conditions"]] if sessions else []
-    measures = dict(MEASURES)
+    measures: dict[str, str] = {}  # the settings first: an adjustment's own measure
     directions: dict[int, set] = {}  # the adjustment's directions, as the conditions of this protocol name them
     for condition in sessions[0]["compiled"]["conditions"] if sessions else []:
         for i, label in enumerate(adjustment_directions(condition)):
@@ -60,6 +60,7 @@ def study_summary(db, protocol_file: str, sessions: list[dict]) -> dict:
     for i, labels in directions.items():
         along = next(iter(labels)) if len(labels) == 1 else f"each condition's adjustment direction {i + 1}"
         measures[f"setting_{i + 1}"] = f"mean setting along {along} (axis units)"
+    measures |= MEASURES
     table, photometry = [], []
     for participant, entry in sorted(by_participant.items()):
         summary = {s["label"]: s for s in by_condition(entry["session"], entry["rows"])}
