@@ -48,7 +48,7 @@ _FIXED = {
     "response_correct": ("True when the choice was correct (2AFC) or 'yes' (yes/no)", None),
     "response_time_s": ("Time from the first frame of the respond phase to the key press", "s"),
     "stimulus_position": ("Staircase value shown on this trial, in units of the response axis", UNITLESS),
-    "frame": ("Frame number from the session's first frame", "count"),
+    "frame": ("Frame number, counted from 0 at the session's first frame", "count"),
     "t_raf": ("requestAnimationFrame timestamp of the frame (browser clock, exact double)", "ms"),
     "t_callback": ("performance.now() at the start of the frame callback (browser clock, exact double)", "ms"),
     "phase": ("Phase being drawn (settle and pause frames belong to no trial)", None),
