@@ -74,3 +74,16 @@ def test_a_flat_staircase_draws_its_data_without_a_curve(tmp_path):
     spec = session_specs(summary)["psychometric"]
     assert "threshold" not in spec["conditions"][0]
     assert render(spec, "svg", tmp_path).startswith(b"<?xml")
+
+
+def test_a_few_dropped_frames_among_thousands_stay_visible(tmp_path):
+    """17 frames beyond the 1.5-period limit (common practice for a dropped frame) among 4,000: on a linear axis
+    their bar is 0.4 % of the tallest; the count axis is logarithmic and the dropped bins are counted in the
+    legend and written above their bars."""
+    spec = {"kind": "intervals", "edges_ms": [0.0, 8.0, 16.0, 24.0, 32.0, 40.0], "counts": [0, 1500, 2500, 12, 5],
+            "period_ms": 16.0}
+    svg = render(spec, "svg", tmp_path).decode()
+    ET.fromstring(svg)
+    assert "log scale" in svg and "dropped frames (17)" in svg
+    assert ">12</text>" in svg and ">5</text>" in svg  # the dropped bins' counts above their bars
+    assert ">1000</text>" in svg and "mathdefault" not in svg  # plain tick numbers on the log axis

@@ -70,3 +70,39 @@ def test_the_export_command_names_the_bad_argument(study, tmp_path, capsys):
     assert "--format" in capsys.readouterr().err
     assert main(["export", "--study", "none.json", "--format", "csv", "-o", str(tmp_path / "x"), "--data", data]) == 2
     assert "no sessions" in capsys.readouterr().err
+
+
+def test_a_flicker_photometry_study_pools_the_settings_and_the_l_m_ratio(app, client):
+    """Two participants' settings along DKL luminance (flicker_photometry.json): each participant's mean setting
+    and the L/M ratio it implies (stimlab.colorimetry.photometry.summarise_settings on that participant's own
+    settings), pooled over participants; response times carry no sign."""
+    import numpy as np
+
+    from stimlab.colorimetry.observers import observer
+    from stimlab.colorimetry.photometry import summarise_settings
+    from stimlab.colorimetry.spaces import LMS_to_DKL
+    from stimlab.sessions.ingest import get_session
+
+    settings = {"P01": [-0.01, 0.005, 0.0, -0.005, 0.01, -0.005], "P02": [0.01, 0.015, 0.005, 0.01, 0.02, 0.0]}
+    for code, values in settings.items():
+        queue = iter(values)
+        session_id = sim.run(app, client, "flicker_photometry.json", code,
+                             lambda trial, condition, q=queue: sim.adjustment(next(q), condition["response"]))
+    summary = client.get("/api/studies/flicker_photometry.json").get_json()
+    label = summary["conditions"][0]
+    assert summary["measures"]["setting_1"] == "mean setting along DKL luminance (axis units)"
+    means = [float(np.mean(v)) for v in settings.values()]
+    assert [row["conditions"][label]["setting_1"] for row in summary["table"]] == pytest.approx(means)
+    assert summary["pooled"][label]["setting_1"]["mean"] == pytest.approx(np.mean(means))
+    data = get_session(app.extensions["stimlab.store"].connect(), session_id)["compiled"]
+    obs, LMS_0 = observer(data["observer"]["key"]), np.array(data["background"]["lms"])
+    amplitude = float(LMS_to_DKL(np.array(data["conditions"][0]["stimuli"]["flicker_disc"]["colour"]["lms"]), LMS_0,
+                                 obs.w_L, obs.w_M)[1])
+    assert amplitude == pytest.approx(0.08)  # the protocol's L−M amplitude
+    ratios = [summarise_settings(amplitude, v, LMS_0, obs)["ratio"] for v in settings.values()]
+    photometry = summary["photometry"]
+    assert [row["ratio"] for row in photometry["table"]] == pytest.approx(ratios)
+    assert photometry["pooled"]["ratio"]["mean"] == pytest.approx(np.mean(ratios))
+    page = client.get("/studies/flicker_photometry.json").text
+    assert "L/M weighting" in page and "Mean setting along DKL luminance" in page
+    assert "+1.2345" not in page and ">1.2345 <" in page  # sim.adjustment's 1234.5 ms: unsigned

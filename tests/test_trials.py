@@ -96,3 +96,63 @@ def test_the_csv_and_its_dictionary_download_from_the_session_page(matched, clie
     assert provenance["protocol"]["sha256"] == session["protocol_sha256"]
     assert provenance["display_profile"]["version"] == 1 and provenance["observer"]["key"] == "ss2"
     assert not math.isnan(json.loads(json.dumps(provenance))["display_profile"]["refresh_hz"])
+
+
+@pytest.fixture
+def flicker(app, client):
+    """flicker_photometry.json: a +0.08 L−M disc in 15 Hz square flicker about the background; settings along DKL
+    luminance confirmed with Enter (the compiled respond phase's only confirm key)."""
+    settings = iter([-0.01, 0.005, 0.0, -0.005, 0.01, -0.005])
+    session_id = sim.run(app, client, "flicker_photometry.json", "P08",
+                         lambda trial, condition: sim.adjustment(next(settings), condition["response"]))
+    db = app.extensions["stimlab.store"].connect()
+    return db, get_session(db, session_id)
+
+
+def test_the_key_that_ended_an_adjustment_is_recorded(flicker, client):
+    """An adjustment ends with its confirm key (Enter, the compiler's default: stimlab.experiment.screens); the
+    runner now logs it, and a log without it reads the respond phase's only confirm key."""
+    import csv
+    import io
+    import zipfile
+
+    db, session = flicker
+    assert session["compiled"]["schedules"]["first"][-1]["confirm"] == ["Enter"]
+    rows = trial_rows(db, session)
+    assert [r["response_key"] for r in rows] == ["Enter"] * 6
+    exported = list(csv.DictReader(io.StringIO(client.get(f"/sessions/{session['id']}/export.csv").text)))
+    assert {r["response_key"] for r in exported} == {"Enter"}
+    archive = zipfile.ZipFile(io.BytesIO(client.get(f"/sessions/{session['id']}/export.bids").data))
+    events = next(n for n in archive.namelist() if n.endswith("_events.tsv"))
+    table = list(csv.DictReader(io.StringIO(archive.read(events).decode()), delimiter="\t"))
+    assert {e["response_key"] for e in table if e["trial_type"] == "respond"} == {"Enter"}
+    assert "confirming key" in describe("response_key")["Description"]
+    from stimlab.sessions.trials import ending_key
+
+    trial = session["compiled"]["trials"][0]
+    assert ending_key(session["compiled"], trial, {"method": "adjustment", "key": "Enter"}) == "Enter"
+    assert ending_key(session["compiled"], trial, {}) is None  # a timeout: no key
+    assert ending_key(session["compiled"], trial, {"method": "2afc", "key": "ArrowLeft"}) == "ArrowLeft"
+
+
+def test_a_flickering_stimulus_records_its_opposite_extreme(flicker):
+    """Square flicker alternates colour and 2·LMS_0 − LMS about the background (stimlab.experiment.compile,
+    modulation −1): in DKL, the L−M coordinate flips sign (+0.08 → −0.08, DKL is linear in LMS − LMS_0,
+    Derrington, Krauskopf & Lennie 1984), at the compiled extreme's device levels."""
+    db, session = flicker
+    colour = session["compiled"]["conditions"][0]["stimuli"]["flicker_disc"]["colour"]
+    opposite_device = next(e["device"] for e in colour["extremes"] if e["modulation"] == -1.0)
+    response = session["compiled"]["conditions"][0]["response"]
+    for row in trial_rows(db, session):
+        assert row["flicker_disc_dkl_lm"] == pytest.approx(0.08, abs=1e-9)
+        assert row["flicker_disc_opposite_dkl_lm"] == pytest.approx(-0.08, abs=1e-9)
+        assert row["flicker_disc_opposite_dkl_lum"] == pytest.approx(0.0, abs=1e-9)
+        assert [row[f"flicker_disc_opposite_device_{c}"] for c in "rgb"] == opposite_device
+        # the setting's other phase: luminance and L−M both flip about the background
+        assert row["response_opposite_dkl_lum"] == pytest.approx(-row["response_position"], abs=1e-9)
+        assert row["response_opposite_dkl_lm"] == pytest.approx(-0.08, abs=1e-9)
+        index = round((row["response_position"] - response["positions"]["low"]) / response["positions"]["step"])
+        assert [row[f"response_opposite_device_{c}"] for c in "rgb"] == response["device_opposite"][index]
+    for column in trial_rows(db, session)[0]:
+        assert not describe(column)["Description"].startswith("Column "), column
+    assert "opposite extreme" in describe("flicker_disc_opposite_dkl_lm")["Description"]

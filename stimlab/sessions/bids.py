@@ -6,6 +6,8 @@ Layout::
     dataset_description.json   README   participants.tsv   participants.json
     sub-<label>/beh/sub-<label>_task-<task>_run-<n>_beh.tsv     (+ .json: every column, with units)
     sub-<label>/beh/sub-<label>_task-<task>_run-<n>_events.tsv  (+ .json)
+    sub-<label>/sub-<label>_scans.tsv                            (+ .json: each run's session status and, for a
+                                                                  session ended early, the experimenter's reason)
 
 The participant label is the participant code with everything but letters and digits removed (BIDS labels are
 alphanumeric; ``x2``, ``x3`` … added where two codes would collide, the code itself kept in participants.tsv);
@@ -21,7 +23,7 @@ import re
 
 from ..version import __version__
 from .dictionary import dictionary
-from .trials import session_events, session_origin_ms, trial_rows
+from .trials import ending_key, session_events, session_origin_ms, trial_rows
 
 __all__ = ["bids_label", "bids_events", "bids_files", "EVENT_LEVELS", "BIDS_VERSION"]
 
@@ -75,7 +77,7 @@ def bids_events(db, session: dict) -> list[dict]:
                "practice": bool(data["trials"][onset["trial"]].get("practice", False)),
                "condition": data["conditions"][onset.get("condition", data["trials"][onset["trial"]]["condition"])]
                ["label"], "frame": onset.get("frame"), "response_time": None if rt is None else round(rt / 1000, 6),
-               "response_key": result.get("key")}
+               "response_key": ending_key(data, data["trials"][onset["trial"]], result) if result else None}
         for name, value in zip(positions, position if isinstance(position, list) else [position]):
             row[name] = None if value is None else round(float(value), 9)
         rows.append(row)
@@ -119,6 +121,7 @@ def bids_files(db, sessions: list[dict], *, name: str, authors=()) -> dict[str, 
     """The dataset as ``{relative path: content}`` for ``sessions`` (one, or all of a study's), in start order."""
     files: dict[str, bytes] = {}
     runs: dict[tuple, int] = {}
+    scans: dict[str, list] = {}
     labels: dict[str, str] = {}  # participant code -> BIDS label, unique even where two codes share letters and digits
 
     def put(path, text):
@@ -145,6 +148,10 @@ def bids_files(db, sessions: list[dict], *, name: str, authors=()) -> dict[str, 
                                                                                       c["labels"].items())
                       for c in data["conditions"]}
         put(f"{stem}_beh.tsv", tsv(trials, columns))
+        scans.setdefault(sub, []).append({"filename": f"{stem.split('/', 1)[1]}_beh.tsv",
+                                          "session_status": session["status"],
+                                          "session_end_reason": session.get("end_reason"),
+                                          "dry_run": bool(session.get("dry_run"))})
         beh = dictionary(columns)
         beh["condition"]["Levels"] = conditions
         put(f"{stem}_beh.json", {"TaskName": task, "TaskDescription": data["protocol"]["title"], **beh})
@@ -152,6 +159,13 @@ def bids_files(db, sessions: list[dict], *, name: str, authors=()) -> dict[str, 
         event_columns = _columns(events, ("onset", "duration", "trial_type"))
         put(f"{stem}_events.tsv", tsv(events, event_columns))
         put(f"{stem}_events.json", _events_sidecar(event_columns, conditions))  # column entries only
+    for sub, rows in scans.items():
+        put(f"sub-{sub}/sub-{sub}_scans.tsv", tsv(rows, ["filename", "session_status", "session_end_reason", "dry_run"]))
+        put(f"sub-{sub}/sub-{sub}_scans.json", {
+            "filename": {"Description": "The run's trial table, relative to the participant's folder"},
+            "session_status": dictionary(["session_status"])["session_status"],
+            "session_end_reason": dictionary(["session_end_reason"])["session_end_reason"],
+            "dry_run": dictionary(["dry_run"])["dry_run"]})
     put("participants.tsv", tsv([{"participant_id": f"sub-{label}", "participant_code": code}
                                  for code, label in labels.items()], ["participant_id", "participant_code"]))
     put("participants.json", {"participant_id": {"Description": "BIDS participant label: the participant's "

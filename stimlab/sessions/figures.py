@@ -18,7 +18,7 @@ from ..figures import render as render_spec
 
 __all__ = ["session_specs", "study_specs", "render", "FORMATS", "FIGURE_VERSION"]
 
-FIGURE_VERSION = 3  # part of the cache key: raise it when the drawing code changes
+FIGURE_VERSION = 4  # part of the cache key: raise it when the drawing code changes
 _axes = new_axes
 
 
@@ -48,11 +48,28 @@ def _vectors(spec: dict, figure) -> None:
 def _intervals(spec: dict, figure) -> None:
     ax = _axes(figure)
     edges = np.array(spec["edges_ms"])
-    ax.bar(edges[:-1], spec["counts"], width=np.diff(edges), align="edge", color=PALETTE[0], edgecolor="white",
-           lw=0.5, label="frames")
-    ax.axvline(DROPPED_FRAME_PERIODS * spec["period_ms"], color=PALETTE[1], linestyle="--",
+    counts = np.array(spec["counts"])
+    limit = DROPPED_FRAME_PERIODS * spec["period_ms"]
+    # A log count axis: a handful of dropped frames among thousands of good ones stays visible, and each bin
+    # beyond the limit is drawn in the warning colour with its count written above it.
+    late = edges[:-1] >= limit - 1e-9
+    ax.bar(edges[:-1][~late], counts[~late], width=np.diff(edges)[~late], align="edge", color=PALETTE[0],
+           edgecolor="white", lw=0.5, label="frames")
+    ax.bar(edges[:-1][late], counts[late], width=np.diff(edges)[late], align="edge", color=PALETTE[1],
+           edgecolor="white", lw=0.5, label=f"dropped frames ({int(counts[late].sum())})")
+    for left, width, count in zip(edges[:-1][late], np.diff(edges)[late], counts[late]):
+        if count:
+            ax.annotate(str(int(count)), (left + width / 2, count), ha="center", va="bottom", fontsize=7,
+                        color=PALETTE[1])
+    ax.axvline(limit, color=PALETTE[1], linestyle="--",
                label=f"dropped-frame limit ({DROPPED_FRAME_PERIODS:g} × {spec['period_ms']:.2f} ms)")
-    ax.set(xlabel="frame interval (ms)", ylabel="frames", title="Frame intervals")
+    if counts.sum() > 0:  # an empty log has nothing to scale
+        from matplotlib.ticker import FuncFormatter
+
+        ax.set_yscale("log")
+        ax.set_ylim(0.7, max(2.0, counts.max() * 3))
+        ax.yaxis.set_major_formatter(FuncFormatter(lambda value, _: f"{value:g}"))  # 1, 10, 100: plain numbers
+    ax.set(xlabel="frame interval (ms)", ylabel="frames (log scale)", title="Frame intervals")
     ax.legend(fontsize=8, frameon=False)
 
 
@@ -88,6 +105,7 @@ def _study(spec: dict, figure) -> None:
                 label="mean over participants, 95 % CI")
     ax.axhline(0, color="0.85", lw=0.8, zorder=0)
     ax.set_xticks(range(len(labels)), labels, rotation=20, ha="right", fontsize=8)
+    ax.set_xlim(-0.5, len(labels) - 0.5)  # one condition too: participants stay beside their mean
     ax.set_ylabel(textwrap.fill(spec["measure"], 34))
     ax.set_title(textwrap.fill(spec["title"], 60), fontsize=9)
     ax.legend(fontsize=8, frameon=False)

@@ -1,8 +1,16 @@
 """The frame log as a typed table: one column per stored number, and the drawn device levels split into one
 integer column per stimulus and channel (``drawn_<stimulus>_device_r`` …) instead of ``"632,794,770"`` text.
 
-The runner logs, per frame, the device levels of each item it drew, in the order of the phase's stimuli (``settle`` frames
-draw the background alone); a patterned item (grating, Gaussian) is logged as ``patch`` and has no single level.
+What the runner logs as ``drawn`` (static/js/runner/schedule.js, screens.js), and how each is read:
+
+- a trial phase: the device levels of each of the phase's stimuli, in the phase's order, ``;``-separated (a
+  patterned item, grating or Gaussian, as ``patch``: no single level). The background is drawn under them on every
+  frame but not logged, so its levels are the compiled background's (``data["background"]["device"]``);
+- ``settle`` (after entering full screen): the background alone;
+- the screens between trials (``pre_adapt``, ``break``): the background first, then ``text r,g,b`` and
+  ``fixation r,g,b``;
+- ``pause``: nothing is drawn (the column is empty).
+
 Times stay the browser's exact doubles (written as the shortest decimal that reads back as the same double).
 Columns are read from :data:`~stimlab.sessions.frame_log.FRAME_COLUMNS`, so a column added there flows through.
 """
@@ -34,8 +42,13 @@ def frame_columns(data: dict) -> list[str]:
 
 
 def _phase_stimuli(data: dict) -> dict[str, list[str]]:
-    table = {p["phase"]: list(p.get("stimuli") or []) for p in data["schedules"]["first"] + data["schedules"]["repeat"]}
-    return table | {"settle": ["background"]}
+    """The stimuli each trial phase logs, in order (the background, drawn under them, is not logged)."""
+    return {p["phase"]: list(p.get("stimuli") or []) for p in data["schedules"]["first"] + data["schedules"]["repeat"]}
+
+
+def _device_text(item: str) -> list[int] | None:
+    parts = item.split(",")
+    return [int(v) for v in parts] if len(parts) == 3 and all(v.strip().isdigit() for v in parts) else None
 
 
 def _levels(block: FrameBlock, data: dict) -> np.ndarray:
@@ -49,14 +62,18 @@ def _levels(block: FrameBlock, data: dict) -> np.ndarray:
     pairs, inverse = np.unique(phase * (n_labels + 1) + drawn, return_inverse=True)
     labels = [*block.labels, None]
     table = np.full((pairs.size, 3 * len(names)), NONE, dtype=np.int32)
+    background = 3 * where["background"]
     for row, pair in enumerate(pairs.tolist()):
         phase_label, drawn_label = labels[pair // (n_labels + 1)], labels[pair % (n_labels + 1)]
-        if not drawn_label:
+        if drawn_label is None:  # a paused frame: nothing drawn
             continue
-        for name, item in zip(stimuli.get(phase_label, []), drawn_label.split(";")):
-            if name in where and item != "patch":
-                values = [int(v) for v in item.split(",")]
-                table[row, 3 * where[name]: 3 * where[name] + 3] = values
+        if phase_label in stimuli:  # a trial phase: its stimuli over the compiled background
+            table[row, background: background + 3] = data["background"]["device"]
+            for name, item in zip(stimuli[phase_label], drawn_label.split(";") if drawn_label else []):
+                if name in where and (values := _device_text(item)) is not None:
+                    table[row, 3 * where[name]: 3 * where[name] + 3] = values
+        elif (values := _device_text(drawn_label.split(";")[0])) is not None:  # settle, screens: background first
+            table[row, background: background + 3] = values
     return table[inverse.ravel()]
 
 

@@ -108,7 +108,8 @@ def write_study_parquet(db, store, sessions: list[dict], folder: Path) -> dict:
         described["frames"] = described["frames"] or frame_columns(session["compiled"])
         info = provenance(db, session)
         records.append({"participant": session["participant"], "session": session["id"],
-                        "status": session["status"], "started_at": session["started_at"],
+                        "status": session["status"], "end_reason": session.get("end_reason"),
+                        "started_at": session["started_at"],
                         "protocol_sha256": info["protocol"]["sha256"], "display_sha256": info["display_profile"]["sha256"],
                         "display_version": info["display_profile"]["version"], "observer": info["observer"]["key"],
                         "software_version": info["session"]["software_version"],

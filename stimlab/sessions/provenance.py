@@ -14,6 +14,7 @@ def provenance(db, session: dict) -> dict:
     display = db.execute("SELECT name, version, sha256 FROM displays WHERE id = ?", (session["display_id"],)).fetchone()
     return {"stimlab_provenance": 1, "exporter_version": __version__,
             "session": {"id": session["id"], "participant": session["participant"], "status": session["status"],
+                        "end_reason": session.get("end_reason"),
                         "started_at": session["started_at"], "ended_at": session["ended_at"],
                         "software_version": session["software_version"],
                         "dry_run": bool(session.get("dry_run") or data.get("dry_run") or False)},

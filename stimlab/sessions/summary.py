@@ -13,6 +13,12 @@ von Kries prediction, :func:`stimlab.colorimetry.adaptation.null_cone_contrast`)
 t(0.975, n − 1) · SD / √n (SD with n − 1). Across participants the same interval is taken over participants'
 means, each participant counting once.
 
+**Settings.** For an adjustment, each condition's mean setting is the mean of the trials' final positions along
+each adjustment direction, in that direction's own units (position 1 is the protocol's axis vector: for the axis
+``[1, 0, 0]`` in DKL, one DKL unit of luminance), with the same Student-t interval. This is the measure of a task
+whose response moves off the DKL isoluminant plane (flicker photometry sets DKL luminance; its disc's L−M amplitude
+is fixed and says nothing about the participant).
+
 Practice trials are left out of every measure; a dry-run session is summarised but flagged.
 """
 
@@ -22,10 +28,14 @@ import numpy as np
 from scipy.special import stdtrit
 
 from ..colorimetry.spaces import LMS_to_DKL
+from ..experiment.labels import axis_name
 from .psychometric import fit_threshold
 
 __all__ = ["signed_components", "mean_ci", "by_condition", "session_summary", "photometry_summary",
-           "measured_rows"]
+           "measured_rows", "axis_label", "adjustment_settings"]
+
+SPACE_NAMES = {"dkl": "DKL", "cone_contrast": "cone contrast", "macleod_boynton": "MacLeod–Boynton",
+               "rgb_linear": "linear RGB"}
 
 
 def mean_ci(values) -> dict | None:
@@ -98,6 +108,36 @@ def _signed(data: dict, condition: dict, done: list[dict]) -> dict:
     return entry
 
 
+def axis_label(axis, space: str) -> str:
+    """An adjustment direction and its unit as a researcher reads them.
+
+    Examples
+    --------
+    >>> axis_label([1.0, 0.0, 0.0], "dkl"), axis_label([0.0, 0.06, 0.0], "dkl")
+    ('DKL luminance', 'DKL L−M (1 = 0.06)')
+    """
+    axis = [float(v) for v in axis]
+    text = f"{SPACE_NAMES.get(space, space)} {axis_name(axis, space)}"
+    nonzero = [v for v in axis if v != 0]
+    if len(nonzero) == 1 and abs(nonzero[0]) != 1:  # position 1 is the axis vector, not one unit of the space
+        text += f" (1 = {abs(nonzero[0]):g})"
+    return text
+
+
+def adjustment_settings(condition: dict, done: list[dict]) -> dict:
+    """The mean setting along each adjustment direction (axis units) with its interval, and the directions'
+    labels; empty for other responses or no settings."""
+    response = condition.get("response") or {}
+    if response.get("kind") != "adjustment":
+        return {}
+    dimensions = response["positions"]["dimensions"]
+    names = ["response_position"] if dimensions == 1 else [f"response_position_{i + 1}" for i in range(dimensions)]
+    settings = [mean_ci([r.get(n) for r in done]) for n in names]
+    if any(s is None for s in settings):
+        return {}
+    return {"setting": settings, "setting_axes": [axis_label(a, response["space"]) for a in response["axes"]]}
+
+
 def _threshold(condition: dict, done: list[dict]) -> dict | None:
     response = condition.get("response") or {}
     if response.get("kind") != "staircase":
@@ -123,6 +163,7 @@ def by_condition(session: dict, rows: list[dict]) -> list[dict]:
         if correct:
             entry["proportion_correct"] = float(np.mean(correct))
         entry |= _signed(data, condition, done)
+        entry |= adjustment_settings(condition, done)
         threshold = _threshold(condition, done)
         if threshold:
             entry["threshold"] = threshold
@@ -160,7 +201,8 @@ def session_summary(db, session: dict) -> dict:
     from .trials import trial_rows
 
     rows = trial_rows(db, session)
-    return {"session": session["id"], "participant": session["participant"],
+    return {"session": session["id"], "participant": session["participant"], "status": session.get("status"),
+            "end_reason": session.get("end_reason"),
             "dry_run": bool(rows[0]["dry_run"]) if rows else False, "rows": rows,
             "timing": timing(db, session), "conditions": by_condition(session, rows),
             "photometry": photometry_summary(session, rows),

@@ -1,4 +1,10 @@
-"""Frame-timing quality of a session: dropped frames, the frame-interval histogram, onset error per phase."""
+"""Frame-timing quality of a session: dropped frames, the frame-interval histogram, onset error per phase, and the
+phases that dropped frames stretched.
+
+The runner counts a phase in frames, so a dropped frame lengthens the phase it falls in by at least one refresh
+period: the next phase starts late. A phase is *stretched* when it lasted half a period or more longer than its
+planned frames (``planned · period``, measured onset to onset); each is counted once per trial.
+"""
 
 from __future__ import annotations
 
@@ -29,17 +35,26 @@ def timing(db, session: dict) -> dict:
     counts, _ = np.histogram(np.clip(intervals, 0, edges[-1] - 1e-9), bins=edges)
     onsets = [e for e in session_events(db, session["id"]) if e["kind"] == "phase_onset"]
     errors: dict[str, list] = {}
+    stretched: dict[str, dict] = {}
+    phases = data["schedules"]["first"] + data["schedules"]["repeat"]
     for a, b in zip(onsets, onsets[1:]):
         if a["trial"] != b["trial"]:
             continue
-        phases = data["schedules"]["first"] + data["schedules"]["repeat"]
         planned = next((p.get("frames") for p in phases if p["phase"] == a["phase"]), None)
         if planned:
-            errors.setdefault(b["phase"], []).append((b["t"] - a["t"]) - planned * period)
+            error = (b["t"] - a["t"]) - planned * period
+            errors.setdefault(b["phase"], []).append(error)
+            if error >= period / 2:
+                entry = stretched.setdefault(a["phase"], {"trials": set(), "max_ms": 0.0, "planned_ms": planned * period})
+                entry["trials"].add(a["trial"])
+                entry["max_ms"] = max(entry["max_ms"], error)
     gaps = np.flatnonzero(np.diff(numbers) != 1) if numbers.size > 1 else []
     return {"frames": int(numbers.size), "dropped_frames": int(dropped), "dropped_outside_trials": outside,
             "median_interval_ms": float(np.median(intervals)) if intervals.size else None,
             "histogram": {"edges_ms": edges.tolist(), "counts": counts.tolist()},
             "onset_error_ms": {k: {"mean": float(np.mean(v)), "max_abs": float(np.max(np.abs(v))), "n": len(v)}
                                for k, v in errors.items()},
-            "frame_numbers_continuous": len(gaps) == 0, "period_ms": period}
+            "frame_numbers_continuous": len(gaps) == 0, "period_ms": period,
+            "stretched_phases": {k: {"trials": len(v["trials"]), "max_ms": v["max_ms"], "planned_ms": v["planned_ms"]}
+                                 for k, v in stretched.items()},
+            "stretched_trials": len(set().union(*[v["trials"] for v in stretched.values()]))}

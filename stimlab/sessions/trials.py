@@ -1,9 +1,17 @@
 """The trial table: one row per trial with everything an analysis needs, one typed column per coordinate.
 
 Every stimulus's colour and second colour, the adjustment's start (after jitter) and the response are given in
-cone contrast, DKL and device levels. Adjustment colours are recomputed from the compiled affine map
+cone contrast, DKL and device levels. A stimulus that alternates about the background (square or counterphase
+flicker, a grating's bars) has its other extreme too, ``<stimulus>_opposite_…`` (and ``_second_opposite_…``):
+``LMS_opposite = 2·LMS_0 − LMS``, at the device levels the compiler worked out for modulation −1; a flickering
+adjusted target (flicker photometry) likewise has ``response_opposite_…`` at the runner's opposite ladder.
+
+Adjustment colours are recomputed from the compiled affine map
 (``origin_lms + position · axis_lms``), the same map the runner's ladder was built from, so the exported values
 are those of the device levels the participant saw. Times are seconds from the session's first frame.
+
+Every row repeats the session's status and, for a session ended early, the experimenter's reason, so that a
+table read on its own says the session was cut short.
 
 Flags that older sessions do not carry (``practice`` on a compiled trial, ``dry_run`` on a session) read as
 ``False``.
@@ -16,7 +24,7 @@ import numpy as np
 from ..colorimetry.spaces import LMS_to_DKL
 from .events import event_data
 
-__all__ = ["trial_rows", "session_events", "session_origin_ms", "phase_names", "response_LMS", "colour_columns",
+__all__ = ["trial_rows", "ending_key", "session_events", "session_origin_ms", "phase_names", "response_LMS", "colour_columns",
            "AXES", "DKL", "CHANNELS"]
 
 AXES = ("L", "M", "S")
@@ -73,6 +81,16 @@ def colour_columns(prefix: str, LMS, device, data: dict) -> dict:
     return row
 
 
+def opposite_LMS(LMS, data: dict) -> np.ndarray:
+    """The other extreme of a colour alternating about the background: ``2·LMS_0 − LMS`` (linear in cone
+    excitations, as the display's linear RGB is: the compiler's ``2·RGB_0 − RGB``)."""
+    return 2 * np.array(data["background"]["lms"]) - np.asarray(LMS, dtype=float)
+
+
+def _opposite_device(colour: dict):
+    return next((e["device"] for e in colour.get("extremes") or [] if e["modulation"] == -1.0), None)
+
+
 def _position_columns(name: str, position, dimensions: int) -> dict:
     if position is None:
         position = [None] * dimensions
@@ -83,13 +101,26 @@ def _position_columns(name: str, position, dimensions: int) -> dict:
     return {f"{name}_{i + 1}": p for i, p in enumerate(position)}
 
 
-def _ladder(response: dict, index):
-    """Position (axis units) and device levels of a ladder index (a number, or a pair for a plane)."""
+def _ladder(response: dict, index, table=None):
+    """Position (axis units) and device levels (from ``table``, the ladder's own by default) of a ladder index (a
+    number, or a pair for a plane)."""
     low, step, count = (response["positions"][k] for k in ("low", "step", "count"))
+    table = response["device"] if table is None else table
     index = [int(i) for i in np.atleast_1d(index)]
     flat = index[0] if len(index) == 1 else index[0] * count + index[1]
-    device = response["device"][flat] if 0 <= flat < len(response["device"]) else None
+    device = table[flat] if 0 <= flat < len(table) else None
     return [low + i * step for i in index], device
+
+
+def ending_key(data: dict, trial: dict, result: dict) -> str | None:
+    """The key that ended a trial (DOM ``KeyboardEvent.key``): the runner's record of it, or, for an adjustment
+    logged before the runner recorded its confirming key, the respond phase's only confirm key (when there is one
+    confirm key, no other key can have ended the trial); None for no response (a timeout)."""
+    if result.get("key") is not None or result.get("method") != "adjustment":
+        return result.get("key")
+    schedule = data["schedules"].get(trial.get("schedule") or "first") or []
+    confirm = next((p.get("confirm") for p in schedule if p["phase"] == "respond"), None) or []
+    return confirm[0] if len(confirm) == 1 else None
 
 
 def _onsets(events: list[dict], origin: float | None, names: list[str]) -> dict[int, dict]:
@@ -128,6 +159,7 @@ def trial_rows(db, session: dict) -> list[dict]:
         end = ends.get(trial["index"])
         end_t = None if end is None or origin is None else round((end["t"] - origin) / 1000, 6)
         row = {"session": session["id"], "participant": session["participant"],
+               "session_status": session.get("status"), "session_end_reason": session.get("end_reason"),
                "protocol_sha256": session.get("protocol_sha256") or data["protocol"]["sha256"],
                "display_sha256": data["display"]["sha256"], "trial": trial["index"], "block": trial["block"],
                "condition": condition["label"], "condition_index": trial["condition"],
@@ -142,9 +174,12 @@ def trial_rows(db, session: dict) -> list[dict]:
                 if key in stimulus:
                     colour = stimulus[key]
                     row |= colour_columns(f"{name}{suffix}", colour["lms"], colour.get("device"), data)
+                    if any(e["modulation"] == -1.0 for e in colour.get("extremes") or []):
+                        row |= colour_columns(f"{name}{suffix}_opposite", opposite_LMS(colour["lms"], data),
+                                              _opposite_device(colour), data)
         result = (end or {}).get("response") or {}
         rt = result.get("rt_ms")
-        row |= {"response_method": result.get("method"), "response_key": result.get("key"),
+        row |= {"response_method": result.get("method"), "response_key": ending_key(data, trial, result),
                 "response_choice": result.get("choice"), "response_correct": result.get("correct"),
                 "response_time_s": None if rt is None else round(rt / 1000, 6)}
         response = condition.get("response")
@@ -157,8 +192,15 @@ def trial_rows(db, session: dict) -> list[dict]:
                                   data)
             moved = result.get("position")
             row |= _position_columns("response_position", moved, dimensions)
-            row |= colour_columns("response", None if moved is None else response_LMS(response, moved),
-                                  result.get("device"), data)
+            LMS = None if moved is None else response_LMS(response, moved)
+            row |= colour_columns("response", LMS, result.get("device"), data)
+            if response.get("device_opposite"):  # a flickering target alternates with its opposite
+                device = None
+                if moved is not None:
+                    device = _ladder(response, [round((m - response["positions"]["low"]) / response["positions"]["step"])
+                                                for m in np.atleast_1d(moved)], response["device_opposite"])[1]
+                row |= colour_columns("response_opposite", None if LMS is None else opposite_LMS(LMS, data), device,
+                                      data)
         if response and response["kind"] == "staircase":
             value = (end or {}).get("staircase_value")
             row["stimulus_position"] = None if value is None else round(float(value), 9)

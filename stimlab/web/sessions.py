@@ -11,7 +11,7 @@ from ..sessions.export import SESSION_FORMATS, STUDY_FORMATS, no_study_message, 
 from ..sessions.figures import render, session_specs, study_specs
 from ..sessions.ingest import STATUSES, get_session, progress
 from ..sessions.store import safe_protocol_name
-from ..sessions.study import study_summary
+from ..sessions.study import UNSIGNED, study_summary
 from ..sessions.summary import session_summary
 from . import current_store
 from .adjustments import check_before_saving, photometry_context
@@ -19,6 +19,34 @@ from .errors import NotFound, WebError
 from .figures import figure_response
 
 blueprint = Blueprint("sessions", __name__)
+
+
+@blueprint.app_template_filter("num")
+def number_text(value, fmt: str = "%+.4f") -> str:
+    """A number for a page: ``fmt`` applied, no negative zero ("−0.00" reads as a sign that is not there), and a
+    real minus sign (U+2212) instead of the hyphen-minus; "—" for none."""
+    if value is None:
+        return "—"
+    text = fmt % value
+    if not any(c in "123456789" for c in text.split("e")[0]):  # rounds to zero: no sign either way
+        text = text.lstrip("+-")
+    return text.replace("-", "\u2212")
+
+
+@blueprint.app_template_filter("when")
+def time_text(value) -> str:
+    """An ISO 8601 timestamp as pages show it: ``2026-12-02 06:33:38 UTC`` (exports keep ISO 8601)."""
+    from datetime import datetime, timezone
+
+    if not value:
+        return "—"
+    try:
+        moment = datetime.fromisoformat(str(value))
+    except ValueError:
+        return str(value)
+    if moment.tzinfo is None:  # stored times are UTC
+        moment = moment.replace(tzinfo=timezone.utc)
+    return moment.astimezone(timezone.utc).strftime("%Y-%m-%d %H:%M:%S UTC")
 
 
 
@@ -39,8 +67,9 @@ def session_or_404(session_id: int) -> dict:
 @blueprint.get("/sessions")
 def index():
     filters = _filters()
+    studies = {s["protocol_file"] for s in current_store().sessions(g.db) if not s["dry_run"]}
     return render_template("sessions.html", sessions=current_store().sessions(g.db, **filters), filters=filters,
-                           protocols=current_store().protocol_names(), statuses=STATUSES)
+                           protocols=current_store().protocol_names(), statuses=STATUSES, studies=studies)
 
 
 @blueprint.get("/api/sessions")
@@ -97,6 +126,7 @@ def show(session_id: int):
                            summary=summary["conditions"], adaptation_model=summary["adaptation_model"],
                            photometry=summary["photometry"],
                            saved_adjustment=saved, display=display,
+                           has_study=bool(study_sessions(g.db, session["protocol_file"])),
                            progress=progress(g.db, session_id), formats=SESSION_FORMATS,
                            figures=list(session_specs(summary)),
                            **photometry_context(session, summary["photometry"]))
@@ -134,7 +164,8 @@ def _protocol_or_404(name: str) -> str:
 def study(name: str):
     name = _protocol_or_404(name)
     summary = study_summary(g.db, name, study_sessions(g.db, name))
-    return render_template("study.html", study=summary, formats=STUDY_FORMATS, figures=list(study_specs(summary)))
+    return render_template("study.html", study=summary, formats=STUDY_FORMATS, figures=list(study_specs(summary)),
+                           unsigned=UNSIGNED)
 
 
 @blueprint.get("/studies/<name>/figures/<figure>.<fmt>")

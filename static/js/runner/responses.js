@@ -60,7 +60,7 @@ export class Responder {
   adjust(event, rt) {
     const k = event.key;
     if (this.confirm.includes(k)) {
-      this.result = { method: "adjustment", position_index: this.position.length === 1 ? this.position[0]
+      this.result = { method: "adjustment", key: k, position_index: this.position.length === 1 ? this.position[0]
         : [...this.position], position: this.value(), device: this.device(), rt_ms: rt };
       return { kind: "response", ...this.result };
     }
