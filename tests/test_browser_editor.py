@@ -180,3 +180,26 @@ def test_a_protocol_from_each_template_runs_a_trial(server, page, key):
             break
         page.wait_for_timeout(200)
     assert ended >= 1
+
+
+def test_json_that_is_not_a_protocol_is_refused_and_the_form_keeps_its_edits(server, page):
+    page.goto(server.url + "/protocols/contrast_match.json")
+    wait_for_audit(page)
+    page.locator('input[name="conditions.repeats"]').fill("7")
+    page.locator("#save-status", has_text="Unsaved").wait_for()
+    page.locator("summary", has_text="Edit as JSON").click()
+    for text in ["{}", "[1,2,3]", "null", '{"stimlab_protocol": 1}']:
+        page.locator("#protocol-json").fill(text)
+        page.get_by_role("button", name="Apply JSON").click()
+        page.locator("#audit-verdict", has_text="must be a JSON object with about, background, stimuli").wait_for()
+        assert page.evaluate("1 + 1") == 2  # the tab still answers
+        assert page.locator('input[name="conditions.repeats"]').input_value() == "7"
+    # A protocol lacking only its format number is drawn, the error at the top level, and the tab answers.
+    protocol = json.loads((server.data / "protocols" / "contrast_match.json").read_text())
+    del protocol["stimlab_protocol"]
+    page.locator("#protocol-json").fill(json.dumps(protocol))
+    page.get_by_role("button", name="Apply JSON").click()
+    page.locator("#audit-verdict", has_text="needs stimlab protocol").wait_for()
+    assert page.evaluate("1 + 1") == 2
+    page.reload()
+    page.locator("#draft-note").wait_for()  # the edits are still kept in this browser

@@ -133,3 +133,15 @@ def test_a_validation_error_reads_as_a_sentence(client):
     error = client.post("/api/audit", json={"protocol": protocol}, headers=headers(client)).get_json()["error"]
     assert error["message"] == "Duration (s) of phase 2 (gap) must be 0 or more (it is -1)"
     assert error["field"] == "trial[1].duration_s"
+
+
+def test_json_that_is_not_a_protocol_is_refused_whole_and_names_what_a_protocol_needs(client):
+    for sent in ({}, [1, 2, 3], None, {"stimlab_protocol": 1}, "text"):
+        response = client.post("/api/protocol-form", headers=headers(client), json={"protocol": sent})
+        assert response.status_code == 400, sent
+        error = response.get_json()["error"]
+        assert error["field"] == "protocol"
+        assert error["message"].startswith("The protocol must be a JSON object with about, background, stimuli, "
+                                           "trial and conditions")
+    lacking = client.post("/api/protocol-form", headers=headers(client), json={"protocol": {"stimlab_protocol": 1}})
+    assert "lacks about, background, stimuli, trial, conditions" in lacking.get_json()["error"]["message"]

@@ -63,18 +63,27 @@ function clearErrors() {
   for (const input of form.querySelectorAll("[aria-invalid]")) input.removeAttribute("aria-invalid");
 }
 
+// The closest part of the form that holds `field` (a fieldset or a vector), or null. Each step drops the last key
+// or index; a path that no longer shrinks (a top-level key, "(top level)") ends the search.
+function enclosingPart(field) {
+  let path = field;
+  while (path) {
+    const part = form.querySelector(`[data-path="${CSS.escape(path)}"]`);
+    if (part) return part;
+    const shorter = path.replace(/(\.[^.[\]]+|\[\d+\])$/, "");
+    if (shorter === path) return null;
+    path = shorter;
+  }
+  return null;
+}
+
 function showError(error) {
   clearErrors();
   const field = error.field ?? "";
   const text = error.message ?? "invalid";
   // The input itself, else the closest enclosing part of the form (a fieldset or a vector).
   const target = field ? form.querySelector(`[name="${CSS.escape(field)}"]`) : null;
-  let holder = target?.closest(".field");
-  if (!holder) {
-    let path = field;
-    while (path && !form.querySelector(`[data-path="${CSS.escape(path)}"]`)) path = path.replace(/(\.[^.[\]]+|\[\d+\])$/, "");
-    holder = path ? form.querySelector(`[data-path="${CSS.escape(path)}"]`) : null;
-  }
+  const holder = target?.closest(".field") ?? enclosingPart(field);
   if (target) target.setAttribute("aria-invalid", "true");
   if (holder) {
     holder.classList.add("invalid");
@@ -156,12 +165,19 @@ form.addEventListener("click", (event) => {
   redraw({ protocol, edit });
 });
 
+const NOT_A_PROTOCOL = "The protocol must be a JSON object with about, background, stimuli, trial and conditions";
+
 document.getElementById("apply-json").addEventListener("click", () => {
   let parsed;
   try {
     parsed = JSON.parse(jsonBox.value);
   } catch (error) {
     showError({ field: "", message: `The JSON does not parse: ${error.message}` });
+    return;
+  }
+  if (parsed === null || typeof parsed !== "object" || Array.isArray(parsed)) {
+    showError({ field: "", message: `${NOT_A_PROTOCOL}, not ${Array.isArray(parsed) ? "a list" : JSON.stringify(parsed).slice(0, 40)}. ` +
+      "Nothing was applied: the form keeps your edits." });
     return;
   }
   redraw({ protocol: parsed });
