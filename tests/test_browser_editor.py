@@ -203,3 +203,27 @@ def test_json_that_is_not_a_protocol_is_refused_and_the_form_keeps_its_edits(ser
     assert page.evaluate("1 + 1") == 2
     page.reload()
     page.locator("#draft-note").wait_for()  # the edits are still kept in this browser
+
+
+def test_level_rows_keep_their_tools_on_one_line_and_save_stays_in_view(server, page):
+    page.set_viewport_size({"width": 1280, "height": 800})
+    page.goto(server.url + "/protocols/contrast_match.json")
+    wait_for_audit(page)
+    variable = page.locator("fieldset.variable").first
+    variable.scroll_into_view_if_needed()
+    own = variable.locator(":scope > .item-tools").bounding_box()
+    rows = variable.locator(":scope > .field").all()
+    assert len(rows) == 4
+    for row in rows:
+        inputs = [box.bounding_box() for box in row.locator("input").all()]
+        tools = row.locator(".item-tools").bounding_box()
+        bottom = tools["y"] + tools["height"]
+        assert all(abs(box["y"] + box["height"] - bottom) < 6 for box in inputs)  # one line, not wrapped under
+        assert tools["x"] >= max(box["x"] + box["width"] for box in inputs)
+        assert tools["y"] >= own["y"] + own["height"]  # clear of the variable's own ↑↓✕
+    shot(page, "editor_variable_levels")
+    # Halfway down a long form, Save is still in the window.
+    page.mouse.wheel(0, 1500)
+    page.wait_for_timeout(100)
+    box = page.get_by_role("button", name="Save", exact=True).bounding_box()
+    assert 0 <= box["y"] and box["y"] + box["height"] <= 800
