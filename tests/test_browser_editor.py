@@ -227,3 +227,25 @@ def test_level_rows_keep_their_tools_on_one_line_and_save_stays_in_view(server, 
     page.wait_for_timeout(100)
     box = page.get_by_role("button", name="Save", exact=True).bounding_box()
     assert 0 <= box["y"] and box["y"] + box["height"] <= 800
+
+
+def test_number_fields_say_enter_a_number_and_the_observer_offers_its_values(server, page):
+    page.goto(server.url + "/protocols/contrast_match.json")
+    wait_for_audit(page)
+    distance = page.locator('input[name="about.viewing_distance_cm"]')
+    distance.fill("")
+    page.locator("#audit-verdict", has_text="Viewing distance (cm) is empty: enter a number").wait_for()
+    distance.fill("1e400")
+    page.locator("#audit-verdict", has_text="1e400 is too large (at most").wait_for()
+    assert "null" not in page.locator("#audit-verdict").inner_text()
+    page.get_by_role("button", name="Save", exact=True).click()
+    page.locator("#save-status", has_text="Not saved").wait_for()
+    distance.fill("−57")  # a real minus sign reads as one
+    page.locator("#audit-verdict", has_text="must be more than 0").wait_for()
+    distance.fill("57")
+    wait_for_audit(page)
+    observer = page.locator('input[name="about.observer"]')
+    choices = observer.evaluate("input => [...input.list.options].map(o => [o.value, o.textContent])")
+    assert ["ss2", "CIE 2006 2° (ss2)"] in choices and ["ss10", "CIE 2006 10° (ss10)"] in choices
+    assert any(value == "sp" for value, _ in choices)
+    assert "CIE 2006 2° (ss2)" in page.locator("#observer-hint").inner_text()

@@ -21,14 +21,45 @@ let baseSha = editor.dataset.sha256;
 let timer = null;
 let generation = 0;
 
+const NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)(e[+-]?\d+)?$/i;
+const LARGEST = "1.8 × 10³⁰⁸"; // the largest number JSON's doubles hold
+
+// A number field's text: a real minus sign (−) reads as "-", as it is shown on the pages.
+const numberText = (input) => input.value.trim().replace(/\u2212/g, "-");
+
 function readInput(input) {
   if (input.dataset.kind === "boolean") return input.checked;
   if (input.dataset.kind === "number") {
-    if (input.value.trim() === "") return null;
-    const value = Number(input.value);
-    return Number.isFinite(value) ? value : input.value;
+    const text = numberText(input);
+    if (text === "") return null;
+    const value = Number(text);
+    return NUMBER.test(text) && Number.isFinite(value) ? value : input.value;
   }
   return input.value;
+}
+
+function labelOf(input) {
+  const label = input.id ? form.querySelector(`label[for="${CSS.escape(input.id)}"]`) : null;
+  return (label?.textContent ?? input.getAttribute("aria-label") ?? input.name).trim();
+}
+
+// What is wrong with a number field as typed, in words, or null: found here, since the protocol can only hold
+// the field as empty (null) or as the text typed, and the server would then answer "must be a number, not null".
+function numberProblem(input) {
+  if (input.dataset.kind !== "number") return null;
+  const text = numberText(input);
+  if (text === "") return `${labelOf(input)} is empty: enter a number`;
+  if (!NUMBER.test(text)) return `${labelOf(input)}: "${input.value.trim().slice(0, 40)}" is not a number; enter a number such as 0.25 or −1.5`;
+  if (!Number.isFinite(Number(text))) return `${labelOf(input)}: ${text.slice(0, 40)} is too large (at most ${LARGEST} in size)`;
+  return null;
+}
+
+function firstNumberProblem() {
+  for (const input of form.querySelectorAll('input[data-kind="number"]')) {
+    const problem = numberProblem(input);
+    if (problem) return { field: input.name, message: problem };
+  }
+  return null;
 }
 
 // -- the draft kept in this browser -----------------------------------------------------------------------------
@@ -144,6 +175,13 @@ form.addEventListener("input", (event) => {
   if (!input.name) return;
   setAt(protocol, input.name, readInput(input));
   changed();
+  const problem = firstNumberProblem();
+  if (problem) {
+    clearTimeout(timer);
+    generation++; // an audit already under way would answer for the text before this one
+    showError(problem);
+    return;
+  }
   scheduleAudit();
 });
 
@@ -191,6 +229,12 @@ function offerDownload() {
 }
 
 saveButton.addEventListener("click", async () => {
+  const problem = firstNumberProblem();
+  if (problem) {
+    showError(problem);
+    saveStatus.textContent = `Not saved: ${problem.message}`;
+    return;
+  }
   saveStatus.textContent = "Saving…";
   const result = await putJSON(`/api/protocols/${encodeURIComponent(name)}`, { protocol, base_sha256: baseSha });
   if (result.ok) {

@@ -81,6 +81,8 @@ def explain_schema_error(error, protocol=None) -> str:
         return f"{label} must be less than {_number(limit)} (it is {_shown(value)})"
     if rule == "type":
         wanted = " or ".join(TYPE_WORDS.get(t, t) for t in (limit if isinstance(limit, list) else [limit]))
+        if value is None:  # what an emptied form field sends
+            return f"{label} is empty: enter {wanted}"
         return f"{label} must be {wanted}, not {_shown(value)}"
     if rule == "enum":
         return f"{label}: {_shown(value)} is not allowed; use one of: " + \

@@ -11,7 +11,7 @@ from ..audit.preflight import audit_protocol
 from ..errors import ConflictError, InputError
 from ..experiment.compile import compile_protocol
 from ..experiment.edits import apply_edit, optional_fields
-from ..experiment.labels import short_label
+from ..experiment.labels import OBSERVER_CHOICES, short_label
 from ..experiment.paradigms import paradigm_protocol, paradigms
 from ..experiment.protocol import CAUTION, protocol_sha256, validate_protocol
 from ..figures import recall_spec, remember_spec
@@ -40,6 +40,7 @@ def bare(path: str) -> str:
 
 blueprint.add_app_template_global(short_label, "short_label")
 blueprint.add_app_template_global(optional_fields, "optional_fields")
+blueprint.add_app_template_global(OBSERVER_CHOICES, "observer_choices")
 
 
 def _file_name(name: str) -> str:
