@@ -249,3 +249,14 @@ def test_number_fields_say_enter_a_number_and_the_observer_offers_its_values(ser
     assert ["ss2", "CIE 2006 2° (ss2)"] in choices and ["ss10", "CIE 2006 10° (ss10)"] in choices
     assert any(value == "sp" for value, _ in choices)
     assert "CIE 2006 2° (ss2)" in page.locator("#observer-hint").inner_text()
+
+
+def test_the_protocols_list_keeps_its_cells_in_line(server, page):
+    page.set_viewport_size({"width": 1280, "height": 800})
+    page.goto(server.url + "/protocols")
+    for row in page.locator("table.list tbody tr").all():
+        cells = [cell.bounding_box() for cell in row.locator("td").all()]
+        assert len({round(c["y"]) for c in cells}) == 1 and len({round(c["height"]) for c in cells}) == 1
+        summary = row.locator("summary", has_text="Duplicate").bounding_box()
+        assert summary["height"] < 30  # the triangle and its word on one line
+    shot(page, "protocols_list")

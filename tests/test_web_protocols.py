@@ -145,3 +145,10 @@ def test_json_that_is_not_a_protocol_is_refused_whole_and_names_what_a_protocol_
                                            "trial and conditions")
     lacking = client.post("/api/protocol-form", headers=headers(client), json={"protocol": {"stimlab_protocol": 1}})
     assert "lacks about, background, stimuli, trial, conditions" in lacking.get_json()["error"]["message"]
+
+
+def test_the_list_counts_in_agreement_and_says_plainly_which_characters_a_name_takes(client):
+    page = client.get("/protocols").text
+    assert "1 warning<" in page and "1 warnings" not in page and "0 warnings" in page  # flicker_photometry has one
+    assert "Use letters, digits, _, . and - only" in page
+    assert '<td class="file-actions">' not in page  # a flex box inside the cell, so the cell keeps its borders

@@ -38,6 +38,12 @@ def bare(path: str) -> str:
     return re.sub(r"\[\d+\]", "", path)
 
 
+@blueprint.app_template_filter()
+def counted(count: int, noun: str, plural: str | None = None) -> str:
+    """``1 warning``, ``2 warnings``: a count with its noun in agreement (``plural`` where it is not noun + s)."""
+    return f"{count} {noun if count == 1 else plural or noun + 's'}"
+
+
 blueprint.add_app_template_global(short_label, "short_label")
 blueprint.add_app_template_global(optional_fields, "optional_fields")
 blueprint.add_app_template_global(OBSERVER_CHOICES, "observer_choices")
