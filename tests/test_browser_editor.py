@@ -135,7 +135,7 @@ def test_validation_errors_use_the_field_label(server, page):
     wait_for_audit(page)
     page.locator('input[name="trial[1].duration_s"]').fill("-1")
     page.locator(".field.invalid").wait_for()
-    assert page.locator("#audit-verdict").inner_text() == "Duration (s) of phase 2 (gap) must be 0 or more (it is -1)"
+    assert page.locator("#audit-verdict").inner_text() == "Duration (s) of phase 2 (gap) must be 0 or more (it is −1)"
     assert page.get_by_label("Duration (s)").count() >= 2  # labels, not raw keys
     assert page.locator("label", has_text="duration_s").count() == 0
 

@@ -28,7 +28,7 @@ def test_a_negative_duration_names_the_phase_and_the_minimum():
     data["trial"][1]["duration_s"] = -1
     error = error_for(data)
     assert error.field == "trial[1].duration_s"
-    assert error.message == "Duration (s) of phase 2 (gap) must be 0 or more (it is -1)"
+    assert error.message == "Duration (s) of phase 2 (gap) must be 0 or more (it is −1)"
     assert "minimum" not in error.message
 
 

@@ -38,6 +38,17 @@ def bare(path: str) -> str:
     return re.sub(r"\[\d+\]", "", path)
 
 
+_MINUS = re.compile(r"(?<![\w.\-−])-(?=\.?\d)")  # a hyphen standing for a minus: before a number, after no word
+_AXIS = re.compile(r"(?<![\w\-])L-M(?![\w\-])")
+
+
+@blueprint.app_template_filter()
+def shown(text) -> str:
+    """Text as a page shows it: negative numbers with a real minus sign (−0.5) and the axis written L−M. Inputs,
+    JSON and file names keep the hyphen-minus, which is what a researcher types."""
+    return _AXIS.sub("L−M", _MINUS.sub("−", str(text)))
+
+
 @blueprint.app_template_filter()
 def counted(count: int, noun: str, plural: str | None = None) -> str:
     """``1 warning``, ``2 warnings``: a count with its noun in agreement (``plural`` where it is not noun + s)."""
@@ -99,7 +110,7 @@ def plane_for(compiled, title: str = "") -> dict:
                 _, lm, s = background.LMS_to_space("dkl", np.array(entry.lms))
                 if abs(lm) < 1e-9 and abs(s) < 1e-9:
                     continue
-                points.append({"name": name, "condition": condition["label"], "lm": float(lm), "s": float(s),
+                points.append({"name": name, "condition": shown(condition["label"]), "lm": float(lm), "s": float(s),
                                "ok": entry.in_gamut})
     for condition, response in zip(compiled.data["conditions"], compiled.responses):
         if response is None or response.space != "dkl":
@@ -107,7 +118,7 @@ def plane_for(compiled, title: str = "") -> dict:
         for axis, (low, high) in zip(response.axes, response.axis_limits()):
             ends = [background.LMS_to_space("dkl", background.colour_to_LMS("dkl", response.base + p * axis))
                     for p in (low, high)]
-            segments.append({"name": f"{response.kind} range of {response.target}", "condition": condition["label"],
+            segments.append({"name": f"{response.kind} range of {response.target}", "condition": shown(condition["label"]),
                              "from": (float(ends[0][1]), float(ends[0][2])),
                              "to": (float(ends[1][1]), float(ends[1][2])), "ok": all(response.in_gamut)})
     return plane_spec(background, points, segments, title=title, equal_aspect=False)
