@@ -194,6 +194,7 @@ def test_json_that_is_not_a_protocol_is_refused_and_the_form_keeps_its_edits(ser
         page.locator("#audit-verdict", has_text="must be a JSON object with about, background, stimuli").wait_for()
         assert page.evaluate("1 + 1") == 2  # the tab still answers
         assert page.locator('input[name="conditions.repeats"]').input_value() == "7"
+        assert "must be a JSON object" in page.locator("#json-message").inner_text()  # beside the box too
     # A protocol lacking only its format number is drawn, the error at the top level, and the tab answers.
     protocol = json.loads((server.data / "protocols" / "contrast_match.json").read_text())
     del protocol["stimlab_protocol"]

@@ -205,20 +205,29 @@ form.addEventListener("click", (event) => {
 
 const NOT_A_PROTOCOL = "The protocol must be a JSON object with about, background, stimuli, trial and conditions";
 
-document.getElementById("apply-json").addEventListener("click", () => {
+const jsonMessage = document.getElementById("json-message");
+
+// Refused JSON is named beside the box as well as in the audit panel; the form and its edits stay as they were.
+function refuseJson(message) {
+  showError({ field: "", message });
+  jsonMessage.textContent = message;
+}
+
+document.getElementById("apply-json").addEventListener("click", async () => {
   let parsed;
   try {
     parsed = JSON.parse(jsonBox.value);
   } catch (error) {
-    showError({ field: "", message: `The JSON does not parse: ${error.message}` });
+    refuseJson(`The JSON does not parse: ${error.message}. Nothing was applied: the form keeps your edits.`);
     return;
   }
   if (parsed === null || typeof parsed !== "object" || Array.isArray(parsed)) {
-    showError({ field: "", message: `${NOT_A_PROTOCOL}, not ${Array.isArray(parsed) ? "a list" : JSON.stringify(parsed).slice(0, 40)}. ` +
-      "Nothing was applied: the form keeps your edits." });
+    refuseJson(`${NOT_A_PROTOCOL}, not ${Array.isArray(parsed) ? "a list" : JSON.stringify(parsed).slice(0, 40)}. ` +
+      "Nothing was applied: the form keeps your edits.");
     return;
   }
-  redraw({ protocol: parsed });
+  jsonMessage.textContent = "";
+  if (!(await redraw({ protocol: parsed }))) jsonMessage.textContent = panel.textContent.trim();
 });
 
 // -- save and conflicts -----------------------------------------------------------------------------------------
