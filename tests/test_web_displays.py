@@ -125,3 +125,9 @@ def test_every_xyy_field_needs_three_numbers(client):
     added = client.post("/api/displays", data={**form(spectra=(io.BytesIO(b""), "")), **primaries},
                         content_type="multipart/form-data", headers={"X-CSRF-Token": client.csrf})
     assert added.status_code == 201, added.get_json()
+
+
+def test_a_file_error_names_the_file_not_the_form_field(client):
+    short = "channel,level,luminance_cd_m2\nred,0,0.1\nred,1023,20\n"
+    error = _refused(client, transfer=(io.BytesIO(short.encode()), "two_levels.csv"))
+    assert error["message"].startswith("two_levels.csv") and "at transfer" not in error["message"], error

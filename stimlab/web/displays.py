@@ -84,7 +84,9 @@ def labelled(error: InputError) -> InputError:
     field = PROFILE_FIELDS.get(error.field, error.field)
     if isinstance(error, FormFieldError) or field not in FORM_LABELS or error.row is not None:
         return error
-    return FormFieldError(f"{FORM_LABELS[field]}: {error.message}", file=error.file, field=field)
+    if error.file:  # the uploaded file's name already says which field
+        return FormFieldError(error.message, file=error.file, field=field)
+    return FormFieldError(f"{FORM_LABELS[field]}: {error.message}", field=field)
 
 
 def _refuse(field: str, problem: str):
