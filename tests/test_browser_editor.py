@@ -135,7 +135,7 @@ def test_validation_errors_use_the_field_label(server, page):
     wait_for_audit(page)
     page.locator('input[name="trial[1].duration_s"]').fill("-1")
     page.locator(".field.invalid").wait_for()
-    assert page.locator("#audit-verdict").inner_text() == "Duration (s) of phase 2 (gap) must be 0 or more (it is -1)"
+    assert page.locator("#audit-verdict").inner_text() == "Duration (s) of phase 2 (gap) must be 0 or more (it is −1)"
     assert page.get_by_label("Duration (s)").count() >= 2  # labels, not raw keys
     assert page.locator("label", has_text="duration_s").count() == 0
 
@@ -180,3 +180,84 @@ def test_a_protocol_from_each_template_runs_a_trial(server, page, key):
             break
         page.wait_for_timeout(200)
     assert ended >= 1
+
+
+def test_json_that_is_not_a_protocol_is_refused_and_the_form_keeps_its_edits(server, page):
+    page.goto(server.url + "/protocols/contrast_match.json")
+    wait_for_audit(page)
+    page.locator('input[name="conditions.repeats"]').fill("7")
+    page.locator("#save-status", has_text="Unsaved").wait_for()
+    page.locator("summary", has_text="Edit as JSON").click()
+    for text in ["{}", "[1,2,3]", "null", '{"stimlab_protocol": 1}']:
+        page.locator("#protocol-json").fill(text)
+        page.get_by_role("button", name="Apply JSON").click()
+        page.locator("#audit-verdict", has_text="must be a JSON object with about, background, stimuli").wait_for()
+        assert page.evaluate("1 + 1") == 2  # the tab still answers
+        assert page.locator('input[name="conditions.repeats"]').input_value() == "7"
+        assert "must be a JSON object" in page.locator("#json-message").inner_text()  # beside the box too
+    # A protocol lacking only its format number is drawn, the error at the top level, and the tab answers.
+    protocol = json.loads((server.data / "protocols" / "contrast_match.json").read_text())
+    del protocol["stimlab_protocol"]
+    page.locator("#protocol-json").fill(json.dumps(protocol))
+    page.get_by_role("button", name="Apply JSON").click()
+    page.locator("#audit-verdict", has_text="needs stimlab protocol").wait_for()
+    assert page.evaluate("1 + 1") == 2
+    page.reload()
+    page.locator("#draft-note").wait_for()  # the edits are still kept in this browser
+
+
+def test_level_rows_keep_their_tools_on_one_line_and_save_stays_in_view(server, page):
+    page.set_viewport_size({"width": 1280, "height": 800})
+    page.goto(server.url + "/protocols/contrast_match.json")
+    wait_for_audit(page)
+    variable = page.locator("fieldset.variable").first
+    variable.scroll_into_view_if_needed()
+    own = variable.locator(":scope > .item-tools").bounding_box()
+    rows = variable.locator(":scope > .field").all()
+    assert len(rows) == 4
+    for row in rows:
+        inputs = [box.bounding_box() for box in row.locator("input").all()]
+        tools = row.locator(".item-tools").bounding_box()
+        bottom = tools["y"] + tools["height"]
+        assert all(abs(box["y"] + box["height"] - bottom) < 6 for box in inputs)  # one line, not wrapped under
+        assert tools["x"] >= max(box["x"] + box["width"] for box in inputs)
+        assert tools["y"] >= own["y"] + own["height"]  # clear of the variable's own ↑↓✕
+    shot(page, "editor_variable_levels")
+    # Halfway down a long form, Save is still in the window.
+    page.mouse.wheel(0, 1500)
+    page.wait_for_timeout(100)
+    box = page.get_by_role("button", name="Save", exact=True).bounding_box()
+    assert 0 <= box["y"] and box["y"] + box["height"] <= 800
+
+
+def test_number_fields_say_enter_a_number_and_the_observer_offers_its_values(server, page):
+    page.goto(server.url + "/protocols/contrast_match.json")
+    wait_for_audit(page)
+    distance = page.locator('input[name="about.viewing_distance_cm"]')
+    distance.fill("")
+    page.locator("#audit-verdict", has_text="Viewing distance (cm) is empty: enter a number").wait_for()
+    distance.fill("1e400")
+    page.locator("#audit-verdict", has_text="1e400 is too large (at most").wait_for()
+    assert "null" not in page.locator("#audit-verdict").inner_text()
+    page.get_by_role("button", name="Save", exact=True).click()
+    page.locator("#save-status", has_text="Not saved").wait_for()
+    distance.fill("−57")  # a real minus sign reads as one
+    page.locator("#audit-verdict", has_text="must be more than 0").wait_for()
+    distance.fill("57")
+    wait_for_audit(page)
+    observer = page.locator('input[name="about.observer"]')
+    choices = observer.evaluate("input => [...input.list.options].map(o => [o.value, o.textContent])")
+    assert ["ss2", "CIE 2006 2° (ss2)"] in choices and ["ss10", "CIE 2006 10° (ss10)"] in choices
+    assert any(value == "sp" for value, _ in choices)
+    assert "CIE 2006 2° (ss2)" in page.locator("#observer-hint").inner_text()
+
+
+def test_the_protocols_list_keeps_its_cells_in_line(server, page):
+    page.set_viewport_size({"width": 1280, "height": 800})
+    page.goto(server.url + "/protocols")
+    for row in page.locator("table.list tbody tr").all():
+        cells = [cell.bounding_box() for cell in row.locator("td").all()]
+        assert len({round(c["y"]) for c in cells}) == 1 and len({round(c["height"]) for c in cells}) == 1
+        summary = row.locator("summary", has_text="Duplicate").bounding_box()
+        assert summary["height"] < 30  # the triangle and its word on one line
+    shot(page, "protocols_list")

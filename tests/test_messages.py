@@ -28,7 +28,7 @@ def test_a_negative_duration_names_the_phase_and_the_minimum():
     data["trial"][1]["duration_s"] = -1
     error = error_for(data)
     assert error.field == "trial[1].duration_s"
-    assert error.message == "Duration (s) of phase 2 (gap) must be 0 or more (it is -1)"
+    assert error.message == "Duration (s) of phase 2 (gap) must be 0 or more (it is −1)"
     assert "minimum" not in error.message
 
 
@@ -73,3 +73,9 @@ def test_a_long_wrong_value_is_not_quoted_whole():
 def test_names_of_the_trade_stay_as_written():
     assert plain_words("cone_contrast and macleod_boynton and duration_s") == \
         "cone_contrast and macleod_boynton and duration (s)"
+
+
+def test_an_emptied_number_field_asks_for_a_number():
+    data = demo()
+    data["trial"][1]["duration_s"] = None  # what the editor sends for an emptied field
+    assert error_for(data).message == "Duration (s) of phase 2 (gap) is empty: enter a number"

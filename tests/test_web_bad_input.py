@@ -243,3 +243,34 @@ def test_deep_nesting_in_a_body_is_a_400(client):
     response = client.post("/api/audit", data="[" * 100000 + "]" * 100000,
                            headers={"X-CSRF-Token": client.csrf, "Content-Type": "application/json"})
     refused(response, 400, "body")
+
+
+def test_a_criterion_put_needs_both_fields_and_keeps_the_labs_on_refusal(client):
+    def put(body):
+        return client.put("/api/settings/photometry-criterion", headers={"X-CSRF-Token": client.csrf}, json=body)
+
+    assert put({"min_settings": 6, "max_ratio_sd": 0.25}).status_code == 200
+    for body, field in [({}, "min_settings"), ({"min_settings": 6}, "max_ratio_sd"),
+                        ({"min_settings": 6, "max_ratio_sd": 1e308}, "max_ratio_sd"),
+                        ({"min_settings": 6, "max_ratio_sd": 0}, "max_ratio_sd"),
+                        ({"min_settings": 1, "max_ratio_sd": 0.3}, "min_settings"),
+                        ({"min_settings": 10**6, "max_ratio_sd": 0.3}, "min_settings"),
+                        ({"min_settings": True, "max_ratio_sd": 0.3}, "min_settings"),
+                        ({"min_settings": 6, "max_ratio_sd": "lots"}, "max_ratio_sd")]:
+        refused = put(body)
+        assert refused.status_code == 400, body
+        error = refused.get_json()["error"]
+        assert error["field"] == field and field in error["message"]
+        assert re.search(r"from \S+ to \S+", error["message"])  # the range allowed, named
+    assert client.get("/api/settings/photometry-criterion").get_json() == {
+        "min_settings": 6, "max_ratio_sd": 0.25, "is_default": False}
+
+
+@pytest.mark.parametrize("method", ["get", "put", "delete"])
+def test_a_protocol_named_without_json_is_not_found_and_no_file_appears(app, client, method, protocol_named):
+    response = getattr(client, method)("/api/protocols/noext", headers={"X-CSRF-Token": client.csrf},
+                                       json={"protocol": protocol_named("contrast_match"), "base_sha256": None})
+    assert response.status_code == 404 and ".json" in response.get_json()["error"]["message"]
+    assert not (app.extensions["stimlab.store"].protocols / "noext.json").exists()
+    assert client.get("/protocols/contrast_match").status_code == 404
+    assert client.get("/protocols/contrast_match.json").status_code == 200

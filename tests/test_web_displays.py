@@ -89,3 +89,45 @@ def test_display_page_reports_rod_contrast(client):
     # The luminance unit stimulus raises every cone by 1/√3 (Brainard 1996's normalisation) by scaling the light
     # above black, so the rods rise by about as much (hand reasoning; 0.5 leaves room for the black's share).
     assert summary["dkl_unit"]["lum"] > 0.5
+
+
+def _refused(client, **fields):
+    data = {**form(), "csrf_token": client.csrf, **fields}
+    response = client.post("/api/displays", data=data, content_type="multipart/form-data",
+                           headers={"X-CSRF-Token": client.csrf})
+    assert response.status_code == 400, fields
+    return response.get_json()["error"]
+
+
+def test_form_errors_name_the_field_by_its_label(client):
+    for fields, field, label in [({"bits": "20"}, "bits", "Bits per channel must be a whole number from 1 to 16"),
+                                 ({"bits": "8.5"}, "bits", "Bits per channel must be a whole number"),
+                                 ({"refresh": "5"}, "refresh", "Refresh rate (Hz) must be a number from 20 to 1000"),
+                                 ({"size_cm": "53.1"}, "size_cm", "Visible size (cm) needs two numbers"),
+                                 ({"size_px": "1920,1080,3"}, "size_px", "Resolution (pixels) needs two whole")]:
+        error = _refused(client, **fields)
+        assert error["field"] == field and error["message"].startswith(label), error
+        assert f"at {field}" not in error["message"]
+    page = client.post("/displays", data={**form(refresh="5"), "csrf_token": client.csrf},
+                       content_type="multipart/form-data")
+    assert page.status_code == 400 and "Refresh rate (Hz) must be" in page.text and "at refresh" not in page.text
+
+
+def test_every_xyy_field_needs_three_numbers(client):
+    # The sRGB primaries (IEC 61966-2-1) with luminances summing to a white of 100 cd/m² (rounded).
+    primaries = {"xyY_red": "0.64,0.33,21.3", "xyY_green": "0.30,0.60,71.5", "xyY_blue": "0.15,0.06,7.2"}
+    for field, text in [("xyY_red", "0.64,0.33"), ("xyY_green", "0.3;0.6;71.5"), ("xyY_blue", "0.15,0.06,7.2,1")]:
+        error = _refused(client, spectra=(io.BytesIO(b""), ""), **{**primaries, field: text})
+        label = {"xyY_red": "Red", "xyY_green": "Green", "xyY_blue": "Blue"}[field]
+        assert error["field"] == field and error["message"].startswith(f"{label} x,y,Y needs three numbers x,y,Y")
+    bad = _refused(client, spectra=(io.BytesIO(b""), ""), **{**primaries, "xyY_red": "0.64,0.33,-1"})
+    assert bad["field"] == "xyY_red" and bad["message"].startswith("Red x,y,Y: ")
+    added = client.post("/api/displays", data={**form(spectra=(io.BytesIO(b""), "")), **primaries},
+                        content_type="multipart/form-data", headers={"X-CSRF-Token": client.csrf})
+    assert added.status_code == 201, added.get_json()
+
+
+def test_a_file_error_names_the_file_not_the_form_field(client):
+    short = "channel,level,luminance_cd_m2\nred,0,0.1\nred,1023,20\n"
+    error = _refused(client, transfer=(io.BytesIO(short.encode()), "two_levels.csv"))
+    assert error["message"].startswith("two_levels.csv") and "at transfer" not in error["message"], error

@@ -44,7 +44,7 @@ def test_live_audit_plots_the_plane_by_content_and_bounds_a_far_stimulus(client)
     url = re.search(r'src="(/protocols/figures/plane-[0-9a-f]{64}\.svg)', html).group(1)
     svg = client.get(url)
     assert svg.status_code == 200 and svg.mimetype == "image/svg+xml"
-    assert "adapter (axis=L-M, polarity=plus)" in svg.text and "DKL S (pooled cone contrast)" in svg.text
+    assert "adapter (axis=L−M, polarity=plus)" in svg.text and "DKL S (pooled cone contrast)" in svg.text
     assert client.get(url.replace(".svg", ".pdf")).data.startswith(b"%PDF")
     protocol["conditions"]["variables"]["axis"]["L-M"][1] = 0.8  # far outside the gamut (±0.16 along L−M)
     html = client.post("/api/audit", json={"protocol": protocol}, headers=headers(client)).get_json()["html"]
@@ -131,5 +131,39 @@ def test_a_validation_error_reads_as_a_sentence(client):
     protocol = client.get("/api/protocols/afterimage_null.json").get_json()["protocol"]
     protocol["trial"][1]["duration_s"] = -1
     error = client.post("/api/audit", json={"protocol": protocol}, headers=headers(client)).get_json()["error"]
-    assert error["message"] == "Duration (s) of phase 2 (gap) must be 0 or more (it is -1)"
+    assert error["message"] == "Duration (s) of phase 2 (gap) must be 0 or more (it is −1)"
     assert error["field"] == "trial[1].duration_s"
+
+
+def test_json_that_is_not_a_protocol_is_refused_whole_and_names_what_a_protocol_needs(client):
+    for sent in ({}, [1, 2, 3], None, {"stimlab_protocol": 1}, "text"):
+        response = client.post("/api/protocol-form", headers=headers(client), json={"protocol": sent})
+        assert response.status_code == 400, sent
+        error = response.get_json()["error"]
+        assert error["field"] == "protocol"
+        assert error["message"].startswith("The protocol must be a JSON object with about, background, stimuli, "
+                                           "trial and conditions")
+    lacking = client.post("/api/protocol-form", headers=headers(client), json={"protocol": {"stimlab_protocol": 1}})
+    assert "lacks about, background, stimuli, trial, conditions" in lacking.get_json()["error"]["message"]
+
+
+def test_the_list_counts_in_agreement_and_says_plainly_which_characters_a_name_takes(client):
+    page = client.get("/protocols").text
+    assert "1 warning<" in page and "1 warnings" not in page and "0 warnings" in page  # flicker_photometry has one
+    assert "Use letters, digits, _, . and - only" in page
+    assert '<td class="file-actions">' not in page  # a flex box inside the cell, so the cell keeps its borders
+
+
+def test_pages_show_a_real_minus_and_the_axis_as_l_minus_m_while_inputs_keep_what_is_typed(client):
+    from stimlab.web.protocols import shown
+
+    assert shown("at -0.5, S -1 (x=-3)") == "at −0.5, S −1 (x=−3)"
+    assert shown("surround=+L-M") == "surround=+L−M"
+    # a hyphen inside words, dates, file names and exponents stays (common practice in typesetting)
+    for text in ("2-down 1-up", "2026-12-02", "afterimage-null.json", "1e-05", "L-M-ish"):
+        assert shown(text) == text
+    listing = client.get("/protocols").text
+    assert "After-image nulling along the L−M and S axes" in listing
+    page = client.get("/protocols/afterimage_null.json").text
+    assert "<h1>After-image nulling along the L−M and S axes</h1>" in page
+    assert 'name="conditions.variables.axis.L-M[1]"' in page  # the key as typed

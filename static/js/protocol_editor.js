@@ -21,14 +21,45 @@ let baseSha = editor.dataset.sha256;
 let timer = null;
 let generation = 0;
 
+const NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)(e[+-]?\d+)?$/i;
+const LARGEST = "1.8 × 10³⁰⁸"; // the largest number JSON's doubles hold
+
+// A number field's text: a real minus sign (−) reads as "-", as it is shown on the pages.
+const numberText = (input) => input.value.trim().replace(/\u2212/g, "-");
+
 function readInput(input) {
   if (input.dataset.kind === "boolean") return input.checked;
   if (input.dataset.kind === "number") {
-    if (input.value.trim() === "") return null;
-    const value = Number(input.value);
-    return Number.isFinite(value) ? value : input.value;
+    const text = numberText(input);
+    if (text === "") return null;
+    const value = Number(text);
+    return NUMBER.test(text) && Number.isFinite(value) ? value : input.value;
   }
   return input.value;
+}
+
+function labelOf(input) {
+  const label = input.id ? form.querySelector(`label[for="${CSS.escape(input.id)}"]`) : null;
+  return (label?.textContent ?? input.getAttribute("aria-label") ?? input.name).trim();
+}
+
+// What is wrong with a number field as typed, in words, or null: found here, since the protocol can only hold
+// the field as empty (null) or as the text typed, and the server would then answer "must be a number, not null".
+function numberProblem(input) {
+  if (input.dataset.kind !== "number") return null;
+  const text = numberText(input);
+  if (text === "") return `${labelOf(input)} is empty: enter a number`;
+  if (!NUMBER.test(text)) return `${labelOf(input)}: "${input.value.trim().slice(0, 40)}" is not a number; enter a number such as 0.25 or −1.5`;
+  if (!Number.isFinite(Number(text))) return `${labelOf(input)}: ${text.slice(0, 40)} is too large (at most ${LARGEST} in size)`;
+  return null;
+}
+
+function firstNumberProblem() {
+  for (const input of form.querySelectorAll('input[data-kind="number"]')) {
+    const problem = numberProblem(input);
+    if (problem) return { field: input.name, message: problem };
+  }
+  return null;
 }
 
 // -- the draft kept in this browser -----------------------------------------------------------------------------
@@ -63,18 +94,27 @@ function clearErrors() {
   for (const input of form.querySelectorAll("[aria-invalid]")) input.removeAttribute("aria-invalid");
 }
 
+// The closest part of the form that holds `field` (a fieldset or a vector), or null. Each step drops the last key
+// or index; a path that no longer shrinks (a top-level key, "(top level)") ends the search.
+function enclosingPart(field) {
+  let path = field;
+  while (path) {
+    const part = form.querySelector(`[data-path="${CSS.escape(path)}"]`);
+    if (part) return part;
+    const shorter = path.replace(/(\.[^.[\]]+|\[\d+\])$/, "");
+    if (shorter === path) return null;
+    path = shorter;
+  }
+  return null;
+}
+
 function showError(error) {
   clearErrors();
   const field = error.field ?? "";
   const text = error.message ?? "invalid";
   // The input itself, else the closest enclosing part of the form (a fieldset or a vector).
   const target = field ? form.querySelector(`[name="${CSS.escape(field)}"]`) : null;
-  let holder = target?.closest(".field");
-  if (!holder) {
-    let path = field;
-    while (path && !form.querySelector(`[data-path="${CSS.escape(path)}"]`)) path = path.replace(/(\.[^.[\]]+|\[\d+\])$/, "");
-    holder = path ? form.querySelector(`[data-path="${CSS.escape(path)}"]`) : null;
-  }
+  const holder = target?.closest(".field") ?? enclosingPart(field);
   if (target) target.setAttribute("aria-invalid", "true");
   if (holder) {
     holder.classList.add("invalid");
@@ -135,6 +175,13 @@ form.addEventListener("input", (event) => {
   if (!input.name) return;
   setAt(protocol, input.name, readInput(input));
   changed();
+  const problem = firstNumberProblem();
+  if (problem) {
+    clearTimeout(timer);
+    generation++; // an audit already under way would answer for the text before this one
+    showError(problem);
+    return;
+  }
   scheduleAudit();
 });
 
@@ -156,15 +203,31 @@ form.addEventListener("click", (event) => {
   redraw({ protocol, edit });
 });
 
-document.getElementById("apply-json").addEventListener("click", () => {
+const NOT_A_PROTOCOL = "The protocol must be a JSON object with about, background, stimuli, trial and conditions";
+
+const jsonMessage = document.getElementById("json-message");
+
+// Refused JSON is named beside the box as well as in the audit panel; the form and its edits stay as they were.
+function refuseJson(message) {
+  showError({ field: "", message });
+  jsonMessage.textContent = message;
+}
+
+document.getElementById("apply-json").addEventListener("click", async () => {
   let parsed;
   try {
     parsed = JSON.parse(jsonBox.value);
   } catch (error) {
-    showError({ field: "", message: `The JSON does not parse: ${error.message}` });
+    refuseJson(`The JSON does not parse: ${error.message}. Nothing was applied: the form keeps your edits.`);
     return;
   }
-  redraw({ protocol: parsed });
+  if (parsed === null || typeof parsed !== "object" || Array.isArray(parsed)) {
+    refuseJson(`${NOT_A_PROTOCOL}, not ${Array.isArray(parsed) ? "a list" : JSON.stringify(parsed).slice(0, 40)}. ` +
+      "Nothing was applied: the form keeps your edits.");
+    return;
+  }
+  jsonMessage.textContent = "";
+  if (!(await redraw({ protocol: parsed }))) jsonMessage.textContent = panel.textContent.trim();
 });
 
 // -- save and conflicts -----------------------------------------------------------------------------------------
@@ -175,6 +238,12 @@ function offerDownload() {
 }
 
 saveButton.addEventListener("click", async () => {
+  const problem = firstNumberProblem();
+  if (problem) {
+    showError(problem);
+    saveStatus.textContent = `Not saved: ${problem.message}`;
+    return;
+  }
   saveStatus.textContent = "Saving…";
   const result = await putJSON(`/api/protocols/${encodeURIComponent(name)}`, { protocol, base_sha256: baseSha });
   if (result.ok) {

@@ -10,8 +10,17 @@ from __future__ import annotations
 
 import re
 
-__all__ = ["LABELS", "KEY_LABELS", "COMPONENTS", "short_label", "field_label", "component_names", "axis_name",
+__all__ = ["LABELS", "KEY_LABELS", "OBSERVER_CHOICES", "COMPONENTS", "short_label", "field_label", "component_names", "axis_name",
            "variable_spaces", "parse_path", "path_text"]
+
+OBSERVER_CHOICES = (
+    ("ss2", "CIE 2006 2°"),
+    ("ss10", "CIE 2006 10°"),
+    ("sp", "Smith & Pokorny 1975 2°"),
+    ("adjusted:", "a participant's own, from flicker photometry"),
+)
+"""The values ``about.observer`` takes, each with its name for the editor's list: the CIE 170-1:2006 cone
+fundamentals are Stockman & Sharpe's (2000); ``adjusted:`` is completed with the participant's code."""
 
 LABELS = {
     "about": "About the study",

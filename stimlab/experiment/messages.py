@@ -22,10 +22,13 @@ KEPT_KEYS = ("cone_contrast", "macleod_boynton", "after_image", "centre_surround
 
 
 def _number(value) -> str:
-    return f"{value:g}" if isinstance(value, float) else str(value)
+    """A number as a message shows it, negative ones with a real minus sign (−1, not -1)."""
+    return (f"{value:g}" if isinstance(value, float) else str(value)).replace("-", "−")
 
 
 def _shown(value) -> str:
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        return _number(value) if isinstance(value, int) else json.dumps(value).replace("-", "−")
     text = json.dumps(value, ensure_ascii=False)
     return text if len(text) < MAX_SHOWN_CHARACTERS else "…"
 
@@ -49,7 +52,7 @@ def explain_schema_error(error, protocol=None) -> str:
     Returns
     -------
     str
-        One sentence without a final full stop, e.g. "Duration (s) of phase 2 (gap) must be 0 or more (it is -1)";
+        One sentence without a final full stop, e.g. "Duration (s) of phase 2 (gap) must be 0 or more (it is −1)";
         values of :data:`MAX_SHOWN_CHARACTERS` or more characters of JSON are shown as "…". A rule with no sentence
         of its own falls back to ``"<label>: <jsonschema message>"``.
 
@@ -64,7 +67,7 @@ def explain_schema_error(error, protocol=None) -> str:
     >>> error = next(Draft202012Validator({"properties": {"duration_s": {"minimum": 0}}}).iter_errors(
     ...     {"duration_s": -1}))
     >>> explain_schema_error(error)
-    'Duration (s) must be 0 or more (it is -1)'
+    'Duration (s) must be 0 or more (it is −1)'
     """
     path = path_text(list(error.absolute_path))
     label = field_label(path, protocol) if path else "The protocol"
@@ -81,6 +84,8 @@ def explain_schema_error(error, protocol=None) -> str:
         return f"{label} must be less than {_number(limit)} (it is {_shown(value)})"
     if rule == "type":
         wanted = " or ".join(TYPE_WORDS.get(t, t) for t in (limit if isinstance(limit, list) else [limit]))
+        if value is None:  # what an emptied form field sends
+            return f"{label} is empty: enter {wanted}"
         return f"{label} must be {wanted}, not {_shown(value)}"
     if rule == "enum":
         return f"{label}: {_shown(value)} is not allowed; use one of: " + \

@@ -14,7 +14,7 @@ import numpy as np
 from ..colorimetry.gamut import plane_gamut_polygon
 from ..figures import PALETTE, new_axes
 
-__all__ = ["plane_spec", "plane_view", "draw_plane", "VIEW_LIMIT", "MAX_MARKS"]
+__all__ = ["plane_spec", "plane_view", "draw_plane", "pointing", "VIEW_LIMIT", "MAX_MARKS", "DRAWING_STYLE"]
 
 VIEW_LIMIT = 1.2
 """The widest view, as a multiple of the gamut polygon's extent along each axis."""
@@ -27,6 +27,13 @@ AXES_HEIGHT_IN = 3.8
 AROUND_AXES_IN = 4.0
 """Width of the axis labels and the legend beside the plot area, inches."""
 IN_GAMUT, OUT_OF_GAMUT, RANGE = PALETTE[0], PALETTE[1], PALETTE[2]
+DRAWING_STYLE = 2
+"""Part of every spec, so that a figure kept from an older way of drawing it is drawn again."""
+ON_AXIS = 0.04
+"""A mark this close to an axis, as a fraction of the view's half-width across it, counts as on that axis."""
+ARROWS = (r"$\rightarrow$", r"$\nearrow$", r"$\uparrow$", r"$\nwarrow$", r"$\leftarrow$", r"$\swarrow$",
+          r"$\downarrow$", r"$\searrow$")
+"""Arrows for the eight directions, counter-clockwise from the right (matplotlib mathtext)."""
 
 
 def _groups(entries, key) -> list[dict]:
@@ -121,7 +128,7 @@ def plane_spec(background, points=(), segments=(), title: str = "", headroom: bo
     points = points[:MAX_MARKS]
     segments = segments[:max(0, MAX_MARKS - len(points))]
     return {
-        "kind": "gamut_plane", "title": title, "headroom": headroom, "equal_aspect": equal_aspect,
+        "kind": "gamut_plane", "style": DRAWING_STYLE, "title": title, "headroom": headroom, "equal_aspect": equal_aspect,
         "background_rgb": [round(float(c), 6) for c in background.RGB_0],
         "polygon": np.round(polygon, 6).tolist(),
         "limits": {"lm": np.round(background.DKL_limits[1], 6).tolist(),
@@ -135,14 +142,57 @@ def plane_spec(background, points=(), segments=(), title: str = "", headroom: bo
     }
 
 
+def _on_screen(lm: float, s: float, view: dict) -> np.ndarray:
+    """The direction from the background towards (lm, s) as drawn (each axis scaled to its half-width), unit length."""
+    direction = np.array([lm / view["lm"], s / view["s"]])
+    length = np.hypot(*direction)
+    return direction / length if length else np.array([1.0, 0.0])
+
+
 def _edge(lm: float, s: float, view: dict) -> tuple[float, float]:
     """Where the ray from the background towards (lm, s) leaves the view, a little inside it."""
     scale = min(view["lm"] / abs(lm) if lm else np.inf, view["s"] / abs(s) if s else np.inf) * 0.96
     return lm * scale, s * scale
 
 
+def pointing(lm: float, s: float, view: dict) -> str:
+    """The arrow (one of :data:`ARROWS`) that points from the background the way (lm, s) lies, as drawn."""
+    x, y = _on_screen(lm, s, view)
+    return ARROWS[int(np.round(np.arctan2(y, x) / (np.pi / 4))) % 8]
+
+
+def _label_place(lm: float, s: float, view: dict) -> dict:
+    """Where a mark's number goes: above a mark on the L−M axis, right of one on the S axis (both clear of the axis
+    line, the dashed headroom and any range drawn along it), else outward, away from the background."""
+    near_lm_axis = abs(s) <= ON_AXIS * view["s"]
+    near_s_axis = abs(lm) <= ON_AXIS * view["lm"]
+    if near_lm_axis and not near_s_axis:
+        return {"xytext": (0, 5), "ha": "center", "va": "bottom"}
+    if near_s_axis and not near_lm_axis:
+        return {"xytext": (5, 0), "ha": "left", "va": "center"}
+    x, y = _on_screen(lm, s, view) if (lm or s) else (1.0, 1.0)
+    return {"xytext": (5 * np.sign(x), 4 * np.sign(y)), "ha": "left" if x >= 0 else "right",
+            "va": "bottom" if y >= 0 else "top"}
+
+
+def _arrow_label_place(direction) -> dict:
+    """Where the number of an out-of-view mark goes: beside the middle of its arrow, below a level arrow and left of
+    an upright one, so clear of the axis line and of the numbers :func:`_label_place` puts above and to the right."""
+    dx, dy = direction
+    middle = (-13 * dx, -13 * dy)
+    if abs(dy) < 0.38:
+        return {"xytext": (middle[0], middle[1] - 5), "ha": "center", "va": "top"}
+    if abs(dx) < 0.38:
+        return {"xytext": (middle[0] - 5, middle[1]), "ha": "right", "va": "center"}
+    across = np.array([dy, -dx]) if dy * dx > 0 else np.array([-dy, dx])  # the side below the arrow
+    return {"xytext": (middle[0] + 6 * across[0], middle[1] + 6 * across[1]), "ha": "center", "va": "top"}
+
+
 def _number(value: float, form: str = ".3g") -> str:
-    """A number as the axes write it, with a true minus sign."""
+    """A number as the axes write it, with a true minus sign; rounding noise (6.9e−17) and −0 read as 0."""
+    value = round(float(value), 6)
+    if value == 0:
+        value = 0.0  # no "−0"
     return format(value, form).replace("-", "−")
 
 
@@ -181,7 +231,7 @@ def draw_plane(spec: dict, figure) -> None:
         # numbered at the far end: ranges are often centred on the background, where the stimuli crowd
         end = (x1, y1) if np.hypot(x1, y1) >= np.hypot(x0, y0) else (x0, y0)
         end = _edge(*end, view) if past else end
-        ax.annotate(str(number), end, xytext=(4, 3), textcoords="offset points", fontsize=7, color=colour)
+        ax.annotate(str(number), end, textcoords="offset points", fontsize=7, color=colour, **_label_place(*end, view))
     for index, point in enumerate(spec["points"]):
         number += 1
         colour = IN_GAMUT if point["ok"] else OUT_OF_GAMUT
@@ -189,19 +239,19 @@ def draw_plane(spec: dict, figure) -> None:
         status = "" if point["ok"] else ", out of gamut"
         if index in view["outside"]:
             x, y = _edge(point["lm"], point["s"], view)
-            direction = np.array([point["lm"], point["s"]]) / np.hypot(point["lm"], point["s"])
+            direction = _on_screen(point["lm"], point["s"], view)
             ax.annotate("", xy=(x, y), xytext=(-26 * direction[0], -26 * direction[1]), textcoords="offset points",
                         xycoords="data", arrowprops={"arrowstyle": "-|>", "color": colour, "lw": 1.6})
-            ax.annotate(str(number), (x, y), xytext=(-30 * direction[0], -30 * direction[1] - 3),
-                        textcoords="offset points", fontsize=7, color=colour, ha="center")
-            ax.plot([], [], marker=r"$\rightarrow$", ms=9, ls="none", color=colour,
+            ax.annotate(str(number), (x, y), textcoords="offset points", fontsize=7, color=colour,
+                        **_arrow_label_place(direction))
+            ax.plot([], [], marker=pointing(point["lm"], point["s"], view), ms=9, ls="none", color=colour,
                     label=_wrap(f"{number}  {point['label']}{status}: outside the view, at L−M {_number(point['lm'])}, "
                                 f"S {_number(point['s'])}"))
         else:
             ax.plot([point["lm"]], [point["s"]], marker=marker, ms=6, ls="none", color=colour, mec="white", mew=0.6,
                     label=_wrap(f"{number}  {point['label']}{status}"))
-            ax.annotate(str(number), (point["lm"], point["s"]), xytext=(4, 3), textcoords="offset points",
-                        fontsize=7, color=colour)
+            ax.annotate(str(number), (point["lm"], point["s"]), textcoords="offset points", fontsize=7,
+                        color=colour, **_label_place(point["lm"], point["s"], view))
     if spec["more"]:
         ax.plot([], [], ls="none", label=f"and {spec['more']} more not drawn")
     ax.set(xlim=(-view["lm"], view["lm"]), ylim=(-view["s"], view["s"]),

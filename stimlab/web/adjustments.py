@@ -22,15 +22,38 @@ def lab_criterion() -> dict:
     return reliability_criterion(stored.get("min_settings"), stored.get("max_ratio_sd"))
 
 
-def _criterion_from(values) -> dict:
+# What a lab may set (a choice of this program, not a published limit): at least 2 settings, since a spread needs
+# two, and at most 100, more than any session asks of an observer; an SD of the L/M ratio above 0 and at most 2, since
+# an SD of 2 already lets settings disagree across most of the range of ratios observers have (from memory: about
+# 0.5 to 10), so a larger one would pass every result.
+CRITERION_RANGES = {"min_settings": (2, 100), "max_ratio_sd": (0.001, 2.0)}
+CRITERION_WORDS = {"min_settings": ("the minimum number of settings", "a whole number", int),
+                   "max_ratio_sd": ("the largest SD of the L/M ratio", "a number", float)}
+
+
+def _criterion_from(values, required: bool = False) -> dict:
+    """The criterion in ``values`` (a form or a JSON body), each field checked against :data:`CRITERION_RANGES`.
+
+    From the form an empty field means stimlab's default for it; through the API (``required``) both fields must
+    be given, so a PUT never silently resets a value the lab set.
+    """
     parsed = {}
-    for key, kind, words in (("min_settings", int, "a whole number"), ("max_ratio_sd", float, "a number")):
-        text = str(values.get(key) if values.get(key) is not None else "").strip()
-        if text:
-            try:
-                parsed[key] = kind(text)
-            except ValueError:
-                raise WebError(f"{text!r} is not {words}", field=key) from None
+    for key, (words, kind_words, kind) in CRITERION_WORDS.items():
+        low, high = CRITERION_RANGES[key]
+        span = f"from {low:g} to {high:g}"
+        value = values.get(key)
+        text = str(value if value is not None else "").strip()
+        if not text:
+            if required:
+                raise WebError(f"{key} is missing: give {words}, {kind_words} {span}", field=key)
+            continue
+        try:
+            number = kind(text) if not isinstance(value, bool) else None
+        except ValueError:
+            number = None
+        if number is None or not low <= number <= high:
+            raise WebError(f"{key} must be {kind_words} {span} ({words}), not {text[:40]}", field=key)
+        parsed[key] = number
     try:
         return reliability_criterion(parsed.get("min_settings"), parsed.get("max_ratio_sd"))
     except ValueError as error:
@@ -86,9 +109,10 @@ def api_criterion():
 
 @blueprint.put("/api/settings/photometry-criterion")
 def api_set_criterion():
+    """Both fields are required (ranges in :data:`CRITERION_RANGES`); the form's reset button restores the default."""
     body = request.get_json(silent=True)
     if not isinstance(body, dict):
         raise WebError("send {\"min_settings\": n, \"max_ratio_sd\": sd}", field="body")
-    criterion = _criterion_from(body)
+    criterion = _criterion_from(body, required=True)
     current_store().set_setting(g.db, CRITERION, {k: criterion[k] for k in DEFAULT_CRITERION})
     return criterion

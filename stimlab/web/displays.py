@@ -58,9 +58,93 @@ def _number(form, field: str, default, kind=float):
     return value
 
 
+FORM_LABELS = {
+    "name": "Name", "bits": "Bits per channel", "refresh": "Refresh rate (Hz)", "size_cm": "Visible size (cm)",
+    "size_px": "Resolution (pixels)", "measured_by": "Measured by", "measured_on": "Measured on",
+    "spectra": "Primary spectra (CSV)", "transfer": "Transfer measurements (CSV)", "model": "Transfer model",
+    "xyY_red": "Red x,y,Y", "xyY_green": "Green x,y,Y", "xyY_blue": "Blue x,y,Y",
+}
+"""The 'add a display' form's fields by name, with the labels the page shows (and its messages use)."""
+PROFILE_FIELDS = {"red": "xyY_red", "green": "xyY_green", "blue": "xyY_blue", "size-cm": "size_cm",
+                  "size-px": "size_px", "refresh_hz": "refresh"}
+"""Names :func:`build_profile` gives its fields, as the form names them."""
+BITS, REFRESH_HZ = (1, 16), (20, 1000)  # what build_profile accepts
+
+
+class FormFieldError(InputError):
+    """A problem with one field of the form, named in the message by the field's label (so not again as
+    "at xyY_green"); ``field`` still holds the input's name, for the page to mark it."""
+
+    def where(self) -> str:
+        return self.file or ""
+
+
+def labelled(error: InputError) -> InputError:
+    """``error`` worded for the form: a field it names by a program name gets the form's label instead."""
+    field = PROFILE_FIELDS.get(error.field, error.field)
+    if isinstance(error, FormFieldError) or field not in FORM_LABELS or error.row is not None:
+        return error
+    if error.file:  # the uploaded file's name already says which field
+        return FormFieldError(error.message, file=error.file, field=field)
+    return FormFieldError(f"{FORM_LABELS[field]}: {error.message}", field=field)
+
+
+def _refuse(field: str, problem: str):
+    raise FormFieldError(f"{FORM_LABELS[field]} {problem}", field=field)
+
+
+def _shown(text: str) -> str:
+    return repr(text if len(text) <= 40 else text[:40] + "…")
+
+
+def _numbers(text: str, field: str, count: int, words: str, kind=float) -> list | None:
+    """Exactly ``count`` numbers separated by commas (a pair may use × or x), or None for an empty field."""
+    if not text:
+        return None
+    if count == 2:
+        text = text.replace("×", ",").replace("x", ",")
+    parts = [p.strip().replace("\u2212", "-") for p in text.split(",")]
+    try:
+        values = [kind(p) if len(p) <= 40 else kind("x") for p in parts]
+    except ValueError:
+        values = None
+    if values is None or len(values) != count or not all(math.isfinite(v) for v in values):
+        _refuse(field, f"needs {words}, e.g. {FORM_EXAMPLES[field]}; got {_shown(text)}")
+    return values
+
+
+FORM_EXAMPLES = {"size_cm": "53.1,29.9", "size_px": "1920,1080", "xyY_red": "0.64,0.33,21.3",
+                 "xyY_green": "0.30,0.60,71.5", "xyY_blue": "0.15,0.06,7.2"}  # sRGB's primaries (IEC 61966-2-1)
+
+
+def _bounded(form, field: str, default, low, high, kind=float):
+    text = (form.get(field) or "").strip().replace("\u2212", "-")
+    if not text:
+        return default
+    words = f"a {'whole ' if kind is int else ''}number from {low:g} to {high:g}"
+    try:
+        value = kind(text) if len(text) <= 40 else kind("x")
+    except ValueError:
+        _refuse(field, f"must be {words}; got {_shown(text)}")
+    if not (math.isfinite(value) and low <= value <= high):
+        _refuse(field, f"must be {words}; got {_shown(text)}")
+    return value
+
+
 def profile_from_form(form, files) -> dict:
-    """Build a profile from the 'add a display' form (the same steps as ``stimlab display build``)."""
-    bits = _number(form, "bits", 8, int)
+    """Build a profile from the 'add a display' form (the same steps as ``stimlab display build``); an error names
+    the field by the form's label."""
+    try:
+        return _profile_from_form(form, files)
+    except InputError as error:
+        raise labelled(error) from None
+
+
+def _profile_from_form(form, files) -> dict:
+    bits = _bounded(form, "bits", 8, *BITS, kind=int)
+    refresh_hz = _bounded(form, "refresh", 60.0, *REFRESH_HZ)
+    size_cm = _numbers((form.get("size_cm") or "").strip(), "size_cm", 2, "two numbers, width,height")
+    size_px = _numbers((form.get("size_px") or "").strip(), "size_px", 2, "two whole numbers, width,height", int)
     transfer_model = form.get("model") or "gog"
     if transfer_model not in TRANSFER_MODELS:
         raise InputError(f"choose one of {', '.join(TRANSFER_MODELS)}", field="model")
@@ -80,19 +164,14 @@ def profile_from_form(form, files) -> dict:
         spectra = parse_spectra(_text(upload, "spectra"), upload.filename)
     else:
         chromaticities = {}
-        for channel in CHANNELS:
+        for channel in CHANNELS:  # every field checked in turn, each for exactly three numbers
             field = f"xyY_{channel}"
             text = (form.get(field) or "").strip()
             if not text:
-                raise InputError("upload the primaries' spectra, or give x,y,Y of every primary", field=field)
-            try:
-                chromaticities[channel] = [float(v) for v in text.split(",")]
-            except ValueError:
-                raise InputError(f"{text!r} is not three numbers x,y,Y", field=field) from None
-    return build_profile(form.get("name", ""), transfer=transfer, bits=bits,
-                         refresh_hz=_number(form, "refresh", 60.0), spectra=spectra, chromaticities=chromaticities,
-                         size_cm=_pair(form.get("size_cm", ""), "size_cm"),
-                         size_px=_pair(form.get("size_px", ""), "size_px", int),
+                _refuse(field, "is empty: upload the primaries' spectra, or give x,y,Y of every primary")
+            chromaticities[channel] = _numbers(text, field, 3, "three numbers x,y,Y (Y in cd/m²)")
+    return build_profile(form.get("name", ""), transfer=transfer, bits=bits, refresh_hz=refresh_hz, spectra=spectra,
+                         chromaticities=chromaticities, size_cm=size_cm, size_px=size_px,
                          measured_by=form.get("measured_by", "").strip(),
                          measured_on=(form.get("measured_on") or "").strip() or None)
 
@@ -126,7 +205,7 @@ def index():
 
 @blueprint.get("/displays/new")
 def new():
-    return render_template("display_new.html", error=None, form={}, models=TRANSFER_MODELS)
+    return render_template("display_new.html", error=None, form={}, models=TRANSFER_MODELS, labels=FORM_LABELS)
 
 
 @blueprint.post("/displays")
@@ -134,7 +213,8 @@ def create():
     try:
         profile = profile_from_form(request.form, request.files)
     except InputError as error:
-        return render_template("display_new.html", error=error, form=request.form, models=TRANSFER_MODELS), 400
+        return render_template("display_new.html", error=error, form=request.form, models=TRANSFER_MODELS,
+                               labels=FORM_LABELS), 400
     display_id = current_store().add_display(g.db, profile)
     return redirect(url_for("displays.show", display_id=display_id), 303)
 

@@ -11,10 +11,11 @@ from ..audit.preflight import audit_protocol
 from ..errors import ConflictError, InputError
 from ..experiment.compile import compile_protocol
 from ..experiment.edits import apply_edit, optional_fields
-from ..experiment.labels import short_label
+from ..experiment.labels import OBSERVER_CHOICES, short_label
 from ..experiment.paradigms import paradigm_protocol, paradigms
 from ..experiment.protocol import CAUTION, protocol_sha256, validate_protocol
 from ..figures import recall_spec, remember_spec
+from ..jsonio import dumps
 from ..profiles.figures import render as render_figure
 from ..profiles.plane_figure import plane_spec
 from ..sessions import protocol_files
@@ -27,6 +28,7 @@ from .figures import figure_response, figures_dir
 from .plots import frame_preview
 
 blueprint = Blueprint("protocols", __name__)
+SECTIONS = ("about", "background", "stimuli", "trial", "conditions")  # the parts of a protocol the form draws
 AUDIT_CACHE_BYTES = 64 * 1024 * 1024  # compiled protocols kept for the live audit, at most
 
 
@@ -36,8 +38,35 @@ def bare(path: str) -> str:
     return re.sub(r"\[\d+\]", "", path)
 
 
+_MINUS = re.compile(r"(?<![\w.\-−])-(?=\.?\d)")  # a hyphen standing for a minus: before a number, after no word
+_AXIS = re.compile(r"(?<![\w\-])L-M(?![\w\-])")
+
+
+@blueprint.app_template_filter()
+def shown(text) -> str:
+    """Text as a page shows it: negative numbers with a real minus sign (−0.5) and the axis written L−M. Inputs,
+    JSON and file names keep the hyphen-minus, which is what a researcher types."""
+    return _AXIS.sub("L−M", _MINUS.sub("−", str(text)))
+
+
+@blueprint.app_template_filter()
+def counted(count: int, noun: str, plural: str | None = None) -> str:
+    """``1 warning``, ``2 warnings``: a count with its noun in agreement (``plural`` where it is not noun + s)."""
+    return f"{count} {noun if count == 1 else plural or noun + 's'}"
+
+
 blueprint.add_app_template_global(short_label, "short_label")
 blueprint.add_app_template_global(optional_fields, "optional_fields")
+blueprint.add_app_template_global(OBSERVER_CHOICES, "observer_choices")
+
+
+def _file_name(name: str) -> str:
+    """A protocol named in a URL: the file's whole name, ``.json`` included, as the list links to it. A name
+    without it is no file (a 404), for reading and writing alike, so a PUT never creates a file the URL did not name."""
+    if not name.endswith(".json"):
+        raise NotFound(f"there is no protocol {name!r}; protocol files are named with .json at the end, "
+                       f"e.g. {name.strip()[:60]}.json")
+    return safe_protocol_name(name)
 
 
 def _read(name: str):
@@ -81,7 +110,7 @@ def plane_for(compiled, title: str = "") -> dict:
                 _, lm, s = background.LMS_to_space("dkl", np.array(entry.lms))
                 if abs(lm) < 1e-9 and abs(s) < 1e-9:
                     continue
-                points.append({"name": name, "condition": condition["label"], "lm": float(lm), "s": float(s),
+                points.append({"name": name, "condition": shown(condition["label"]), "lm": float(lm), "s": float(s),
                                "ok": entry.in_gamut})
     for condition, response in zip(compiled.data["conditions"], compiled.responses):
         if response is None or response.space != "dkl":
@@ -89,7 +118,7 @@ def plane_for(compiled, title: str = "") -> dict:
         for axis, (low, high) in zip(response.axes, response.axis_limits()):
             ends = [background.LMS_to_space("dkl", background.colour_to_LMS("dkl", response.base + p * axis))
                     for p in (low, high)]
-            segments.append({"name": f"{response.kind} range of {response.target}", "condition": condition["label"],
+            segments.append({"name": f"{response.kind} range of {response.target}", "condition": shown(condition["label"]),
                              "from": (float(ends[0][1]), float(ends[0][2])),
                              "to": (float(ends[1][1]), float(ends[1][2])), "ok": all(response.in_gamut)})
     return plane_spec(background, points, segments, title=title, equal_aspect=False)
@@ -163,19 +192,19 @@ def create():
 @blueprint.post("/protocols/<name>/duplicate")
 def duplicate(name: str):
     return _form_action(lambda: url_for("protocols.edit", name=protocol_files.duplicate_protocol(
-        current_store(), name, _new_name(request.form))))
+        current_store(), _file_name(name), _new_name(request.form))))
 
 
 @blueprint.post("/protocols/<name>/rename")
 def rename(name: str):
     return _form_action(lambda: url_for("protocols.edit", name=protocol_files.rename_protocol(
-        current_store(), name, _new_name(request.form), request.form.get("base_sha256") or None)))
+        current_store(), _file_name(name), _new_name(request.form), request.form.get("base_sha256") or None)))
 
 
 @blueprint.post("/protocols/<name>/delete")
 def delete(name: str):
     return _form_action(lambda: url_for("protocols.index",
-                                        deleted=protocol_files.delete_protocol(current_store(), name)))
+                                        deleted=protocol_files.delete_protocol(current_store(), _file_name(name))))
 
 
 @blueprint.post("/protocols/trash/<entry>/restore")
@@ -186,7 +215,7 @@ def restore(entry: str):
 
 @blueprint.get("/protocols/<name>")
 def edit(name: str):
-    name = safe_protocol_name(name)
+    name = _file_name(name)
     text, protocol, error = _read(name)
     display_id = default_display_id(request.args.get("display"))
     return render_template("protocol_edit.html", name=name, text=text, protocol=protocol, error=error,
@@ -256,19 +285,19 @@ def api_create():
 
 @blueprint.post("/api/protocols/<name>/duplicate")
 def api_duplicate(name: str):
-    return {"name": protocol_files.duplicate_protocol(current_store(), name, _new_name(_body()))}, 201
+    return {"name": protocol_files.duplicate_protocol(current_store(), _file_name(name), _new_name(_body()))}, 201
 
 
 @blueprint.post("/api/protocols/<name>/rename")
 def api_rename(name: str):
     body = _body()
-    return {"name": protocol_files.rename_protocol(current_store(), name, _new_name(body),
+    return {"name": protocol_files.rename_protocol(current_store(), _file_name(name), _new_name(body),
                                                    body.get("base_sha256"))}
 
 
 @blueprint.delete("/api/protocols/<name>")
 def api_delete(name: str):
-    return {"trash_entry": protocol_files.delete_protocol(current_store(), name)}
+    return {"trash_entry": protocol_files.delete_protocol(current_store(), _file_name(name))}
 
 
 @blueprint.get("/api/protocol-trash")
@@ -284,18 +313,20 @@ def api_restore(entry: str):
 
 @blueprint.get("/api/protocols/<name>")
 def api_show(name: str):
-    text, protocol, error = _read(safe_protocol_name(name))
-    return {"name": safe_protocol_name(name), "sha256": text_sha256(text), "protocol": protocol,
+    name = _file_name(name)
+    text, protocol, error = _read(name)
+    return {"name": name, "sha256": text_sha256(text), "protocol": protocol,
             "text": text if protocol is None else None,
             "error": {"message": str(error), "field": error.field} if error else None}
 
 
 @blueprint.put("/api/protocols/<name>")
 def api_save(name: str):
+    name = _file_name(name)
     body = _body()
-    protocol = _validated(body.get("protocol"), safe_protocol_name(name))
+    protocol = _validated(body.get("protocol"), name)
     sha = current_store().save_protocol(name, protocol, body.get("base_sha256"))
-    return {"name": safe_protocol_name(name), "sha256": sha, "saved": True}
+    return {"name": name, "sha256": sha, "saved": True}
 
 
 @blueprint.post("/api/audit")
@@ -317,9 +348,13 @@ def api_form():
     changes in its JSON; the form is drawn even when the protocol does not validate, with the first problem."""
     body = _body()
     protocol = body.get("protocol")
-    if not isinstance(protocol, dict):
-        raise WebError("the protocol must be a JSON object with about, background, stimuli, trial and conditions",
-                       field="protocol")
+    # Without these parts there is no form to draw: the editor keeps the one it has (and its unsaved edits).
+    missing = [key for key in SECTIONS if key not in protocol] if isinstance(protocol, dict) else list(SECTIONS)
+    if missing:
+        shown = "a list" if isinstance(protocol, list) else dumps(protocol)[:40]
+        raise WebError(f"The protocol must be a JSON object with {', '.join(SECTIONS[:-1])} and {SECTIONS[-1]}; "
+                       + (f"this one lacks {', '.join(missing)}" if isinstance(protocol, dict) else f"not {shown}")
+                       + ". Nothing was applied: the form keeps your edits", field="protocol")
     if body.get("edit") is not None:
         protocol = apply_edit(protocol, body["edit"])
     error = None
