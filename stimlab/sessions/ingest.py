@@ -77,13 +77,28 @@ def iter_frames(db, session_id: int):
         yield from block.rows()
 
 
-def _digest(batch: dict) -> str:
+def _digest(number: int, events: list[tuple], stored_frames: bytes | None) -> str:
+    """The sha256 of what a batch stores: its number, its event rows and its frame block as stored.
+
+    Two copies of a batch match when they would store the same rows (as :func:`_insert_events` compares events).
+    The frames enter as the bytes already made for the insert: hashing the canonical JSON of the whole batch, as
+    before, cost more than all its checks.
+    """
+    content = hashlib.sha256(b"stimlab batch 2\n%d\n" % number)
+    content.update(dumps([row[1:] for row in events], separators=(",", ":")).encode("utf-8"))
+    if stored_frames is not None:
+        content.update(stored_frames)
+    return content.hexdigest()
+
+
+def _batch_json_digest(batch: dict) -> str:
+    """The digest stored before :func:`_digest`: of the whole batch as canonical JSON (still compared on a retry)."""
     return hashlib.sha256(dumps(batch, sort_keys=True, separators=(",", ":")).encode("utf-8")).hexdigest()
 
 
-def _duplicate_or_conflict(db, session_id: int, number: int, digest: str) -> dict:
+def _duplicate_or_conflict(db, session_id: int, number: int, digest: str, batch: dict) -> dict:
     stored = db.execute("SELECT digest FROM batches WHERE session_id = ? AND batch = ?", (session_id, number)).fetchone()
-    if stored[0] is not None and stored[0] != digest:
+    if stored[0] is not None and stored[0] != digest and stored[0] != _batch_json_digest(batch):
         raise ConflictError(f"batch {number} is already stored with other content; a second runner may be writing "
                             "to this session. Nothing was stored from this batch; keep it and reopen the runner",
                             field="batch")
@@ -124,7 +139,8 @@ def ingest_batch(db, session_id: int, batch: dict, *, runner: str | None = None)
     events = event_rows(session_id, batch.get("events"))
     frames = read_block(batch["frames"]) if batch.get("frames") else None
     count = len(frames) if frames else 0
-    digest = _digest(batch)
+    stored_frames = frames.stored() if frames else None
+    digest = _digest(number, events, stored_frames)
     db.execute("BEGIN IMMEDIATE")
     try:
         if runner is not None:
@@ -133,7 +149,7 @@ def ingest_batch(db, session_id: int, batch: dict, *, runner: str | None = None)
             db.execute("INSERT INTO batches (session_id, batch, received_at, events, frames, digest) "
                        "VALUES (?, ?, ?, ?, ?, ?)", (session_id, number, _now(), len(events), count, digest))
         except sqlite3.IntegrityError:
-            result = _duplicate_or_conflict(db, session_id, number, digest)
+            result = _duplicate_or_conflict(db, session_id, number, digest, batch)
             db.execute("ROLLBACK")
             return result
         duplicates = _insert_events(db, events)
@@ -147,7 +163,7 @@ def ingest_batch(db, session_id: int, batch: dict, *, runner: str | None = None)
                                     f"from batch {overlap[0]}; nothing was stored from this batch", field="frames")
             db.execute("INSERT INTO frames VALUES (?, ?, ?, ?, ?, ?, ?)",
                        (session_id, number, frames.first_frame, frames.last_frame, count, frames.dropped,
-                        frames.stored()))
+                        stored_frames))
         for row in events:
             kind = row[3]
             if kind == "session_end":
