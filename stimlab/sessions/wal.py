@@ -68,12 +68,22 @@ class Checkpointer:
     def __init__(self, owner, database: Path):
         self._owner = weakref.ref(owner)
         self._database = Path(database)
-        self._thread = threading.Thread(target=self._run, name="stimlab-checkpoints", daemon=True)
-        self._thread.start()
+        self._seen = None
+        self.thread = threading.Thread(target=self._run, name="stimlab-checkpoints", daemon=True)
+        self.thread.start()
+
+    def step(self, db: sqlite3.Connection) -> bool:
+        """Checkpoint on ``db`` if anything was committed since the last step; whether it did."""
+        version = db.execute("PRAGMA data_version").fetchone()[0]
+        if version == self._seen:
+            return False
+        # PASSIVE waits for no reader or writer: requests go on while the pages are copied.
+        db.execute("PRAGMA wal_checkpoint(PASSIVE)").fetchone()
+        self._seen = version
+        return True
 
     def _run(self) -> None:
         db = None
-        seen = None
         try:
             while True:
                 time.sleep(INTERVAL_S)
@@ -83,11 +93,7 @@ class Checkpointer:
                     if db is None:
                         db = sqlite3.connect(self._database, timeout=1, isolation_level=None)
                         db.execute("PRAGMA synchronous=NORMAL")  # as the request connections: sync at checkpoints
-                    version = db.execute("PRAGMA data_version").fetchone()[0]
-                    if version != seen:
-                        # PASSIVE waits for no reader or writer: requests go on while the pages are copied.
-                        db.execute("PRAGMA wal_checkpoint(PASSIVE)").fetchone()
-                        seen = version
+                    self.step(db)
                 except sqlite3.Error:
                     continue  # busy or locked this time: the next round (or the backstop) catches up
         finally:
