@@ -18,7 +18,8 @@ Then against the production server (``stimlab serve``: waitress, a separate proc
   (default 120), the 99th percentile of the time from sending a batch to its acknowledgement;
 - ``rss_growth_mib``: the server's resident memory after a ``BENCH_SOAK``-request soak (default 10,000: pages,
   API reads and batches) minus after a warm-up of 1,000;
-- ``ingest_over_floor``: the time for 1,000 batches over that of 1,000 bare requests (a 404) to the same server.
+- ``ingest_over_floor``: the time for 1,000 batches over that of 1,000 bare requests (a 404) to the same server,
+  one of each in turn, each timed alone, the batch bodies made before the clock starts.
 
 Last line: ``ingest_s=… export_s=… floor_s=… client_ingest_over_floor=… csv_module_s=… export_over_csv=…
 export_peak_mib=… p99_batch_ms=… rss_growth_mib=… ingest_over_floor=…``. Targets: ingest + export under 3 s;
