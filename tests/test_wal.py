@@ -83,3 +83,18 @@ def test_the_thread_checkpoints_on_its_own(tmp_path, monkeypatch):
             break
         time.sleep(0.01)
     assert in_database_file(store, "lab", tmp_path / "copies")
+
+
+def test_a_checkpoint_follows_every_so_many_batches_even_while_writes_go_on(tmp_path, monkeypatch):
+    monkeypatch.setattr(wal, "INTERVAL_S", 3600)  # never idle long enough: only the batch count can trigger it
+    (tmp_path / "copies").mkdir()
+    store = Store(tmp_path / "data")
+    for n in range(wal.BATCHES_PER_CHECKPOINT):
+        with store.batch_connection() as db:
+            db.execute("INSERT INTO settings VALUES (?, '1', 'now')", (f"batch {n}",))
+    last = f"batch {wal.BATCHES_PER_CHECKPOINT - 1}"
+    for _ in range(1000):  # polls for the thread; no duration is asserted
+        if in_database_file(store, last, tmp_path / "copies"):
+            break
+        time.sleep(0.01)
+    assert in_database_file(store, last, tmp_path / "copies")

@@ -254,7 +254,9 @@ class Store:
 
     def _start_checkpoints(self) -> None:
         with self._checkpoints_lock:
-            self._checkpoints = self._checkpoints or Checkpointer(self, self.database)
+            if self._checkpoints is None:
+                self._checkpoints = Checkpointer(self, self.database)
+                self._batch_writer.after_write = self._checkpoints.note_batch
 
     def connect(self, *, check_same_thread: bool = True) -> sqlite3.Connection:
         db = sqlite3.connect(self.database, timeout=10, isolation_level=None, check_same_thread=check_same_thread)
