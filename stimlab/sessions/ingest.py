@@ -10,6 +10,7 @@ from __future__ import annotations
 import datetime as dt
 import hashlib
 import sqlite3
+from typing import NamedTuple
 
 from ..errors import ConflictError, InputError
 from ..jsonio import MAX_INT, dumps, loads
@@ -18,8 +19,9 @@ from .events import event_rows
 from .frame_log import FrameBlock, read_block
 from .store import utc_now
 
-__all__ = ["create_session", "get_session", "ingest_batch", "frame_blocks", "iter_frames", "set_status", "progress",
-           "take_lease", "release_lease", "LEASE_IDLE_S", "end_early"]
+__all__ = ["create_session", "get_session", "ingest_batch", "check_batch", "store_batch", "CheckedBatch",
+           "frame_blocks", "iter_frames", "set_status", "progress", "take_lease", "release_lease", "LEASE_IDLE_S",
+           "end_early"]
 
 STATUSES = ("running", "interrupted", "complete", "ended_early")
 LEASE_IDLE_S = 6  # a runner posts a batch or a heartbeat every 1–2 s; one silent this long has closed or crashed
@@ -130,7 +132,26 @@ def ingest_batch(db, session_id: int, batch: dict, *, runner: str | None = None)
     stored with the same content is acknowledged as a duplicate; with other content (or events or frames that
     clash with stored ones) it is refused with :class:`~stimlab.errors.ConflictError` and nothing is stored.
     ``runner`` is the sending runner's lease (see :func:`take_lease`); a runner that no longer holds it is refused.
+    The same as :func:`check_batch` then :func:`store_batch`.
     """
+    return store_batch(db, check_batch(session_id, batch), runner=runner)
+
+
+class CheckedBatch(NamedTuple):
+    """A batch that passed every check, ready for :func:`store_batch`."""
+
+    session_id: int
+    number: int
+    events: list[tuple]
+    frames: FrameBlock | None
+    stored_frames: bytes | None
+    digest: str
+    batch: dict
+
+
+def check_batch(session_id: int, batch: dict) -> CheckedBatch:
+    """Check every field of a batch for session ``session_id`` (an InputError names the first bad one); no database
+    is needed, so a server can do it before it takes the one connection batches are written on."""
     if not isinstance(batch, dict):
         raise InputError("a batch must be a JSON object", field="batch")
     number = _field(batch, "batch", int, "batch")
@@ -138,9 +159,15 @@ def ingest_batch(db, session_id: int, batch: dict, *, runner: str | None = None)
         raise InputError("batch numbers start at 0", field="batch")
     events = event_rows(session_id, batch.get("events"))
     frames = read_block(batch["frames"]) if batch.get("frames") else None
-    count = len(frames) if frames else 0
     stored_frames = frames.stored() if frames else None
-    digest = _digest(number, events, stored_frames)
+    return CheckedBatch(session_id, number, events, frames, stored_frames, _digest(number, events, stored_frames),
+                        batch)
+
+
+def store_batch(db, checked: CheckedBatch, *, runner: str | None = None) -> dict:
+    """Write a checked batch in one transaction (see :func:`ingest_batch`)."""
+    session_id, number, events, frames, stored_frames, digest, batch = checked
+    count = len(frames) if frames else 0
     db.execute("BEGIN IMMEDIATE")
     try:
         if runner is not None:
