@@ -23,7 +23,7 @@ from ..errors import ConflictError, InputError
 from ..experiment.protocol import parse_protocol
 from ..jsonio import check_value, dumps, loads
 from ..profiles.profile import profile_from_dict
-from .wal import BACKSTOP_PAGES, Checkpointer, SharedWriter
+from .wal import SharedWriter
 
 __all__ = ["Store", "MIGRATIONS", "default_data_dir", "safe_protocol_name"]
 
@@ -215,8 +215,6 @@ class Store:
             raise InputError(f"cannot use this data folder ({error.strerror}); choose a folder you can write to",
                              file=str(self.root), field="--data") from None
         self._local = threading.local()
-        self._checkpoints_lock = threading.Lock()
-        self._checkpoints = None
         self._batch_writer = SharedWriter(self.connect)
         try:
             db = self.connect()
@@ -234,14 +232,11 @@ class Store:
         """This thread's long-lived connection, for web requests.
 
         Opening and closing a connection per request costs a WAL checkpoint each time the last one closes;
-        one connection per server thread avoids that, and SQLite connections must not cross threads. Checkpoints
-        run in a thread of their own (:mod:`stimlab.sessions.wal`), not inside a request's commit.
+        one connection per server thread avoids that, and SQLite connections must not cross threads.
         """
         db = getattr(self._local, "db", None)
         if db is None:
             db = self._local.db = self.connect()
-            db.execute(f"PRAGMA wal_autocheckpoint={BACKSTOP_PAGES}")  # checkpoints run in their own thread
-            self._start_checkpoints()
         if db.in_transaction:  # a request that failed half way: never carry its transaction over
             db.execute("ROLLBACK")
         return db
@@ -249,14 +244,7 @@ class Store:
     def batch_connection(self):
         """The one connection the web server writes log batches on, held for a ``with`` block by one thread at a
         time, so that its page cache stays warm (:mod:`stimlab.sessions.wal`)."""
-        self._start_checkpoints()
         return self._batch_writer.connection()
-
-    def _start_checkpoints(self) -> None:
-        with self._checkpoints_lock:
-            if self._checkpoints is None:
-                self._checkpoints = Checkpointer(self, self.database)
-                self._batch_writer.after_write = self._checkpoints.note_batch
 
     def connect(self, *, check_same_thread: bool = True) -> sqlite3.Connection:
         db = sqlite3.connect(self.database, timeout=10, isolation_level=None, check_same_thread=check_same_thread)
