@@ -115,3 +115,44 @@ def test_frame_logs_stored_as_lists_are_packed_by_the_migration(tmp_path):
     with store.connect() as db:
         assert db.execute("PRAGMA user_version").fetchone()[0] == len(MIGRATIONS)
         assert list(iter_frames(db, 1)) == [row + (None,) for row in zip(*old.values())]  # no in_phase then
+
+
+def test_a_batch_stored_under_the_earlier_digest_is_still_known_when_sent_again(app, session):
+    """Batches stored before the digest of stored content kept the digest of the whole batch's canonical JSON."""
+    from stimlab.sessions.ingest import _batch_json_digest
+
+    session_id, token = session
+    body = {"batch": 0, "events": [{"seq": 0, "t": 1.0, "kind": "tick"}], "frames": frames()}
+    assert post(app, session_id, body, token).get_json()["duplicate"] is False
+    db = app.extensions["stimlab.store"].connect()
+    db.execute("UPDATE batches SET digest = ? WHERE session_id = ?", (_batch_json_digest(body), session_id))
+    assert post(app, session_id, body, token).get_json() == {"batch": 0, "duplicate": True}
+    other = {**body, "frames": frames(3)}
+    answer = post(app, session_id, other, token)
+    assert answer.status_code == 409 and answer.get_json()["error"]["field"] == "batch"
+    assert len(stored(app, session_id)[0]) == 3
+
+
+def test_the_same_frames_sent_as_lists_then_packed_are_one_batch(app, session):
+    session_id, token = session
+    body = {"batch": 0, "events": [{"seq": 0, "t": 1.0, "kind": "tick"}], "frames": frames()}
+    assert post(app, session_id, body, token).get_json()["duplicate"] is False
+    packed = {**body, "frames": read_block(frames()).packed()}
+    assert post(app, session_id, packed, token).get_json() == {"batch": 0, "duplicate": True}
+    rows, seqs = stored(app, session_id)
+    assert [r[0] for r in rows] == [0, 1, 2] and seqs == [0]
+
+
+def test_batches_posted_from_many_threads_at_once_are_each_stored_once(app, session):
+    """The server's threads share one batch connection; every batch, each sent twice, is kept exactly once."""
+    from concurrent.futures import ThreadPoolExecutor
+
+    session_id, token = session
+    bodies = [{"batch": n, "events": [{"seq": n, "t": float(n), "kind": "tick"}],
+               "frames": read_block(frames(3 * n)).packed()} for n in range(40)]
+    with ThreadPoolExecutor(8) as pool:
+        answers = list(pool.map(lambda body: post(app, session_id, body, token), bodies + bodies))
+    assert all(a.status_code == 200 for a in answers)
+    assert sum(a.get_json()["duplicate"] for a in answers) == 40
+    rows, seqs = stored(app, session_id)
+    assert [r[0] for r in rows] == list(range(120)) and seqs == list(range(40))

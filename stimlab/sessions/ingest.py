@@ -10,6 +10,7 @@ from __future__ import annotations
 import datetime as dt
 import hashlib
 import sqlite3
+from typing import NamedTuple
 
 from ..errors import ConflictError, InputError
 from ..jsonio import MAX_INT, dumps, loads
@@ -18,8 +19,9 @@ from .events import event_rows
 from .frame_log import FrameBlock, read_block
 from .store import utc_now
 
-__all__ = ["create_session", "get_session", "ingest_batch", "frame_blocks", "iter_frames", "set_status", "progress",
-           "take_lease", "release_lease", "LEASE_IDLE_S", "end_early"]
+__all__ = ["create_session", "get_session", "ingest_batch", "check_batch", "store_batch", "CheckedBatch",
+           "frame_blocks", "iter_frames", "set_status", "progress", "take_lease", "release_lease", "LEASE_IDLE_S",
+           "end_early"]
 
 STATUSES = ("running", "interrupted", "complete", "ended_early")
 LEASE_IDLE_S = 6  # a runner posts a batch or a heartbeat every 1–2 s; one silent this long has closed or crashed
@@ -77,13 +79,28 @@ def iter_frames(db, session_id: int):
         yield from block.rows()
 
 
-def _digest(batch: dict) -> str:
+def _digest(number: int, events: list[tuple], stored_frames: bytes | None) -> str:
+    """The sha256 of what a batch stores: its number, its event rows and its frame block as stored.
+
+    Two copies of a batch match when they would store the same rows (as :func:`_insert_events` compares events).
+    The frames enter as the bytes already made for the insert: hashing the canonical JSON of the whole batch, as
+    before, cost more than all its checks.
+    """
+    content = hashlib.sha256(b"stimlab batch 2\n%d\n" % number)
+    content.update(dumps([row[1:] for row in events], separators=(",", ":")).encode("utf-8"))
+    if stored_frames is not None:
+        content.update(stored_frames)
+    return content.hexdigest()
+
+
+def _batch_json_digest(batch: dict) -> str:
+    """The digest stored before :func:`_digest`: of the whole batch as canonical JSON (still compared on a retry)."""
     return hashlib.sha256(dumps(batch, sort_keys=True, separators=(",", ":")).encode("utf-8")).hexdigest()
 
 
-def _duplicate_or_conflict(db, session_id: int, number: int, digest: str) -> dict:
+def _duplicate_or_conflict(db, session_id: int, number: int, digest: str, batch: dict) -> dict:
     stored = db.execute("SELECT digest FROM batches WHERE session_id = ? AND batch = ?", (session_id, number)).fetchone()
-    if stored[0] is not None and stored[0] != digest:
+    if stored[0] is not None and stored[0] != digest and stored[0] != _batch_json_digest(batch):
         raise ConflictError(f"batch {number} is already stored with other content; a second runner may be writing "
                             "to this session. Nothing was stored from this batch; keep it and reopen the runner",
                             field="batch")
@@ -115,7 +132,26 @@ def ingest_batch(db, session_id: int, batch: dict, *, runner: str | None = None)
     stored with the same content is acknowledged as a duplicate; with other content (or events or frames that
     clash with stored ones) it is refused with :class:`~stimlab.errors.ConflictError` and nothing is stored.
     ``runner`` is the sending runner's lease (see :func:`take_lease`); a runner that no longer holds it is refused.
+    The same as :func:`check_batch` then :func:`store_batch`.
     """
+    return store_batch(db, check_batch(session_id, batch), runner=runner)
+
+
+class CheckedBatch(NamedTuple):
+    """A batch that passed every check, ready for :func:`store_batch`."""
+
+    session_id: int
+    number: int
+    events: list[tuple]
+    frames: FrameBlock | None
+    stored_frames: bytes | None
+    digest: str
+    batch: dict
+
+
+def check_batch(session_id: int, batch: dict) -> CheckedBatch:
+    """Check every field of a batch for session ``session_id`` (an InputError names the first bad one); no database
+    is needed, so a server can do it before it takes the one connection batches are written on."""
     if not isinstance(batch, dict):
         raise InputError("a batch must be a JSON object", field="batch")
     number = _field(batch, "batch", int, "batch")
@@ -123,8 +159,15 @@ def ingest_batch(db, session_id: int, batch: dict, *, runner: str | None = None)
         raise InputError("batch numbers start at 0", field="batch")
     events = event_rows(session_id, batch.get("events"))
     frames = read_block(batch["frames"]) if batch.get("frames") else None
+    stored_frames = frames.stored() if frames else None
+    return CheckedBatch(session_id, number, events, frames, stored_frames, _digest(number, events, stored_frames),
+                        batch)
+
+
+def store_batch(db, checked: CheckedBatch, *, runner: str | None = None) -> dict:
+    """Write a checked batch in one transaction (see :func:`ingest_batch`)."""
+    session_id, number, events, frames, stored_frames, digest, batch = checked
     count = len(frames) if frames else 0
-    digest = _digest(batch)
     db.execute("BEGIN IMMEDIATE")
     try:
         if runner is not None:
@@ -133,7 +176,7 @@ def ingest_batch(db, session_id: int, batch: dict, *, runner: str | None = None)
             db.execute("INSERT INTO batches (session_id, batch, received_at, events, frames, digest) "
                        "VALUES (?, ?, ?, ?, ?, ?)", (session_id, number, _now(), len(events), count, digest))
         except sqlite3.IntegrityError:
-            result = _duplicate_or_conflict(db, session_id, number, digest)
+            result = _duplicate_or_conflict(db, session_id, number, digest, batch)
             db.execute("ROLLBACK")
             return result
         duplicates = _insert_events(db, events)
@@ -147,7 +190,7 @@ def ingest_batch(db, session_id: int, batch: dict, *, runner: str | None = None)
                                     f"from batch {overlap[0]}; nothing was stored from this batch", field="frames")
             db.execute("INSERT INTO frames VALUES (?, ?, ?, ?, ?, ?, ?)",
                        (session_id, number, frames.first_frame, frames.last_frame, count, frames.dropped,
-                        frames.stored()))
+                        stored_frames))
         for row in events:
             kind = row[3]
             if kind == "session_end":

@@ -23,6 +23,7 @@ from ..errors import ConflictError, InputError
 from ..experiment.protocol import parse_protocol
 from ..jsonio import check_value, dumps, loads
 from ..profiles.profile import profile_from_dict
+from .wal import SharedWriter
 
 __all__ = ["Store", "MIGRATIONS", "default_data_dir", "safe_protocol_name"]
 
@@ -214,6 +215,7 @@ class Store:
             raise InputError(f"cannot use this data folder ({error.strerror}); choose a folder you can write to",
                              file=str(self.root), field="--data") from None
         self._local = threading.local()
+        self._batch_writer = SharedWriter(self.connect)
         try:
             db = self.connect()
             try:
@@ -239,8 +241,13 @@ class Store:
             db.execute("ROLLBACK")
         return db
 
-    def connect(self) -> sqlite3.Connection:
-        db = sqlite3.connect(self.database, timeout=10, isolation_level=None)
+    def batch_connection(self):
+        """The one connection the web server writes log batches on, held for a ``with`` block by one thread at a
+        time, so that its page cache stays warm (:mod:`stimlab.sessions.wal`)."""
+        return self._batch_writer.connection()
+
+    def connect(self, *, check_same_thread: bool = True) -> sqlite3.Connection:
+        db = sqlite3.connect(self.database, timeout=10, isolation_level=None, check_same_thread=check_same_thread)
         db.row_factory = sqlite3.Row
         db.execute("PRAGMA foreign_keys=ON")
         db.execute("PRAGMA synchronous=NORMAL")

@@ -19,7 +19,15 @@ from ..errors import InputError
 from ..experiment.protocol import CAUTION
 from ..experiment.screens import scale_durations
 from ..jsonio import dumps, loads
-from ..sessions.ingest import create_session, end_early, ingest_batch, progress, release_lease, take_lease
+from ..sessions.ingest import (
+    check_batch,
+    create_session,
+    end_early,
+    progress,
+    release_lease,
+    store_batch,
+    take_lease,
+)
 from . import current_store
 from .displays import _get as get_display
 from .displays import default_display_id
@@ -228,16 +236,19 @@ def api_checks(session_id: int):
 @blueprint.post("/api/sessions/<int:session_id>/batches")
 @runner_writes
 def api_batch(session_id: int):
-    row = g.db.execute("SELECT status FROM sessions WHERE id = ?", (session_id,)).fetchone()
-    if row is None:
-        raise NotFound(f"there is no session {session_id}")
-    if row["status"] == "complete":
-        raise WebError("this session is complete; it takes no more log batches", "Conflict", 409, field="status")
-    body = loads(request.get_data(), field="batch")
     runner = request.headers.get(RUNNER_HEADER)
     if runner is not None and not 8 <= len(runner) <= 64:
         raise WebError("the runner id must be 8–64 characters", field=RUNNER_HEADER)
-    return ingest_batch(g.db, session_id, body, runner=runner)
+    checked = check_batch(session_id, loads(request.get_data(), field="batch"))
+    # Checked first, then written on the store's one batch connection (its page cache stays warm between batches),
+    # which each thread holds only for the writing.
+    with current_store().batch_connection() as db:
+        row = db.execute("SELECT status FROM sessions WHERE id = ?", (session_id,)).fetchone()
+        if row is None:
+            raise NotFound(f"there is no session {session_id}")
+        if row["status"] == "complete":
+            raise WebError("this session is complete; it takes no more log batches", "Conflict", 409, field="status")
+        return store_batch(db, checked, runner=runner)
 
 
 @blueprint.post("/api/sessions/<int:session_id>/lease")
