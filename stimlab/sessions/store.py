@@ -23,7 +23,7 @@ from ..errors import ConflictError, InputError
 from ..experiment.protocol import parse_protocol
 from ..jsonio import check_value, dumps, loads
 from ..profiles.profile import profile_from_dict
-from .wal import SharedWriter
+from .shared_writer import SharedWriter
 
 __all__ = ["Store", "MIGRATIONS", "default_data_dir", "safe_protocol_name"]
 
@@ -243,7 +243,7 @@ class Store:
 
     def batch_connection(self):
         """The one connection the web server writes log batches on, held for a ``with`` block by one thread at a
-        time, so that its page cache stays warm (:mod:`stimlab.sessions.wal`)."""
+        time, so that its page cache stays warm (:mod:`stimlab.sessions.shared_writer`)."""
         return self._batch_writer.connection()
 
     def connect(self, *, check_same_thread: bool = True) -> sqlite3.Connection:
