@@ -21,7 +21,7 @@ from stimlab.colorimetry.stimulus import Background
 from stimlab.experiment.compile import compile_protocol
 from stimlab.experiment.protocol import validate_protocol
 
-PROTOCOL = json.loads((Path(__file__).parents[1] / "protocols" / "flicker_photometry.json").read_text())
+PROTOCOL = json.loads((Path(__file__).parents[2] / "protocols" / "flicker_photometry.json").read_text())
 SS2 = observer("ss2")
 
 

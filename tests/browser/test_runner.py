@@ -14,8 +14,8 @@ from stimlab.colorimetry.display import DisplayModel
 from stimlab.colorimetry.stimulus import Background
 from stimlab.profiles.demo import demo_profile
 
-ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
-PROTOCOLS = Path(__file__).parents[1] / "protocols"
+ARTIFACTS = Path(__file__).parents[2] / "test-artifacts"
+PROTOCOLS = Path(__file__).parents[2] / "protocols"
 
 
 def quick_null(adapt_s=0.5):

@@ -8,7 +8,7 @@ from browser_support import fill_display_form
 
 from stimlab.profiles.demo import demo_file
 
-ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
+ARTIFACTS = Path(__file__).parents[2] / "test-artifacts"
 
 
 def upload(page, url, tmp_path, name, transfer_text=None):

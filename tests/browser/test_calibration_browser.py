@@ -11,7 +11,7 @@ from stimlab.colorimetry._colour import colour
 from stimlab.colorimetry.display import DisplayModel
 from stimlab.profiles.demo import demo_profile
 
-ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
+ARTIFACTS = Path(__file__).parents[2] / "test-artifacts"
 
 
 def instrument(model, device, rng, noise=0.002):

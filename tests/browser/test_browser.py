@@ -10,7 +10,7 @@ from pathlib import Path
 import pytest
 from browser_support import Server, fill_display_form
 
-ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
+ARTIFACTS = Path(__file__).parents[2] / "test-artifacts"
 # every image matching a selector loaded and drawn (a server-drawn figure, not a broken link)
 DRAWN = "s => { const all = [...document.querySelectorAll(s)]; return all.length > 0 && " \
         "all.every(i => i.complete && i.naturalWidth > 0); }"

@@ -7,7 +7,7 @@ import re
 import zipfile
 from pathlib import Path
 
-PROTOCOLS = Path(__file__).parents[1] / "protocols"
+PROTOCOLS = Path(__file__).parents[2] / "protocols"
 
 
 def create(client, protocol="afterimage_duration.json", **extra):

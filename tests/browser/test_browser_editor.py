@@ -9,7 +9,7 @@ import pytest
 
 from stimlab.experiment.paradigms import paradigms
 
-ARTIFACTS = Path(__file__).parents[1] / "test-artifacts"
+ARTIFACTS = Path(__file__).parents[2] / "test-artifacts"
 
 
 def shot(page, name):

@@ -15,7 +15,7 @@ from test_runner import api, confirm_trials, events, open_runner, quick_null, st
 
 from stimlab.sessions.ingest import iter_frames
 
-SCREENS = Path(__file__).parents[1] / "test-artifacts" / "screens"
+SCREENS = Path(__file__).parents[2] / "test-artifacts" / "screens"
 
 # Reads the runner's canvas back as device levels: the 10-bit demo display draws on a float16 canvas holding
 # level / 1023 (static/js/runner/paint.js), so a pixel reads back as round(value * 1023).

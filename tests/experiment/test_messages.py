@@ -10,7 +10,7 @@ from stimlab.errors import InputError
 from stimlab.experiment.messages import MAX_SHOWN_CHARACTERS, explain_schema_error, plain_words
 from stimlab.experiment.protocol import validate_protocol
 
-PROTOCOLS = Path(__file__).parents[1] / "protocols"
+PROTOCOLS = Path(__file__).parents[2] / "protocols"
 
 
 def demo(name="afterimage_null"):

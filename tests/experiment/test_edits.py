@@ -12,7 +12,7 @@ from stimlab.experiment.protocol import validate_protocol
 
 @pytest.fixture
 def protocol():
-    return json.loads((Path(__file__).parents[1] / "protocols" / "afterimage_null.json").read_text())
+    return json.loads((Path(__file__).parents[2] / "protocols" / "afterimage_null.json").read_text())
 
 
 def test_a_new_stimulus_and_phase_keep_the_protocol_valid(protocol):

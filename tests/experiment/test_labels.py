@@ -5,7 +5,7 @@ from pathlib import Path
 
 from stimlab.experiment.labels import axis_name, component_names, field_label, parse_path, path_text, short_label
 
-PROTOCOLS = Path(__file__).parents[1] / "protocols"
+PROTOCOLS = Path(__file__).parents[2] / "protocols"
 
 
 def demo(name="afterimage_null"):

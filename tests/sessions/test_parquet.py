@@ -72,7 +72,7 @@ def test_the_study_page_offers_the_parquet_dataset(written, client):
 def test_the_three_line_query_in_the_readme_runs(written, monkeypatch):
     pytest.importorskip("pandas")
     db, folder, counts = written
-    readme = (__import__("pathlib").Path(__file__).parents[1] / "README.md").read_text()
+    readme = (__import__("pathlib").Path(__file__).parents[2] / "README.md").read_text()
     start = readme.index("      import duckdb\n")
     lines = [line.strip() for line in readme[start:].splitlines()[:3]]
     monkeypatch.chdir(folder.parent)

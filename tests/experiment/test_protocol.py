@@ -16,11 +16,11 @@ from stimlab.experiment.protocol import (
     validate_protocol,
 )
 
-PROTOCOLS = sorted((Path(__file__).parents[1] / "protocols").glob("*.json"))
+PROTOCOLS = sorted((Path(__file__).parents[2] / "protocols").glob("*.json"))
 
 
 def demo(name="afterimage_null"):
-    return json.loads((Path(__file__).parents[1] / "protocols" / f"{name}.json").read_text())
+    return json.loads((Path(__file__).parents[2] / "protocols" / f"{name}.json").read_text())
 
 
 @pytest.mark.parametrize("path", PROTOCOLS, ids=lambda p: p.stem)

@@ -9,7 +9,7 @@ import pytest
 from stimlab.cli import main
 from stimlab.profiles.profile import save_profile
 
-PROTOCOLS = Path(__file__).parents[1] / "protocols"
+PROTOCOLS = Path(__file__).parents[2] / "protocols"
 
 
 @pytest.fixture

@@ -19,7 +19,7 @@ from stimlab.errors import InputError
 from stimlab.experiment.compile import compile_protocol
 from stimlab.experiment.protocol import parse_protocol
 
-PROTOCOLS = Path(__file__).parents[1] / "protocols"
+PROTOCOLS = Path(__file__).parents[2] / "protocols"
 DEMOS = {p.stem: p.read_text() for p in sorted(PROTOCOLS.glob("*.json"))}
 EXAMPLES = int(os.environ.get("STIMLAB_FUZZ_EXAMPLES", "200"))
 

@@ -14,7 +14,7 @@ import simulated_sessions as sim
 
 from stimlab.cli import main
 
-ROOT = Path(__file__).parents[1]
+ROOT = Path(__file__).parents[2]
 MATCH = [-0.02, 0.03]
 
 
