@@ -20,7 +20,7 @@ from .frame_log import FrameBlock, read_block
 from .store import utc_now
 
 __all__ = ["create_session", "get_session", "ingest_batch", "check_batch", "store_batch", "CheckedBatch",
-           "frame_blocks", "iter_frames", "set_status", "progress", "take_lease", "release_lease", "LEASE_IDLE_S",
+           "frame_blocks", "iter_frames", "progress", "take_lease", "release_lease", "LEASE_IDLE_S",
            "end_early"]
 
 STATUSES = ("running", "interrupted", "complete", "ended_early")
@@ -263,13 +263,6 @@ def take_lease(db, session_id: int, runner: str, *, take_over: bool = False) -> 
         db.execute("ROLLBACK")
         raise
     return {"runner": runner, "taken_over": row is not None and row[0] != runner}
-
-
-def set_status(db, session_id: int, status: str) -> None:
-    if status not in STATUSES:
-        raise InputError(f"status must be one of {', '.join(STATUSES)}", field="status")
-    db.execute("UPDATE sessions SET status = ?, ended_at = CASE WHEN ? = 'complete' THEN ? ELSE ended_at END "
-               "WHERE id = ?", (status, status, _now(), session_id))
 
 
 def end_early(db, session_id: int, reason) -> None:
