@@ -39,4 +39,4 @@ test: $(STAMP)
 	  mkdir -p .tools && npm install --prefix .tools --no-audit --no-fund --loglevel=error bids-validator@1.15.0 >/dev/null; \
 	fi
 	$(VENV)/bin/ruff check stimlab tests benchmarks
-	STIMLAB_BIDS_VALIDATOR=$(BIDS_VALIDATOR) $(PY) -m pytest
+	STIMLAB_BIDS_VALIDATOR=$(BIDS_VALIDATOR) $(PY) -m pytest -n 2 --dist loadfile
