@@ -1,5 +1,5 @@
-"""The documentation keeps up with the code: every command-line option is in the README's command reference and
-every protocol field is in protocols/README.md."""
+"""The documentation keeps up with the code: every command-line option is in the README's command reference,
+every protocol field is in protocols/README.md, and every module is in DEVELOPERS.md's layout."""
 
 import argparse
 import re
@@ -48,3 +48,16 @@ def test_every_protocol_field_is_documented():
     text = (ROOT / "protocols" / "README.md").read_text()
     for field in sorted(schema_fields(protocol_schema(), set())):
         assert f"`{field}`" in text, f"protocol field {field!r} is not documented in protocols/README.md"
+
+
+def test_every_module_is_in_the_layout():
+    """DEVELOPERS.md's layout names each subpackage and each of its modules, so a newcomer can find every file."""
+    guide = (ROOT / "DEVELOPERS.md").read_text()
+    layout = guide[guide.index("## Layout"):guide.index("## Glossary")]
+    package = ROOT / "stimlab"
+    for folder in sorted(p for p in package.iterdir() if (p / "__init__.py").exists() and p.name != "data"):
+        assert f"{folder.name}/" in layout, folder.name
+        for module in sorted(folder.glob("*.py")):
+            if module.name != "__init__.py":
+                assert re.search(rf"\b{re.escape(module.name)}\b", layout), f"{folder.name}/{module.name}"
+
